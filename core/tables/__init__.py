@@ -1,0 +1,1 @@
+"""Tables: pure functions of (working data, table spec) returning a captioned TableResult."""
