@@ -36,12 +36,12 @@ def cell_texts(column: pd.Series) -> np.ndarray:
         arr = formatted.to_numpy(dtype=object, na_value=None)
         return arr
     if pd.api.types.is_bool_dtype(column):
-        return np.array([None if v is None else str(v).upper() for v in column.astype(object)],
-                        dtype=object)
+        return np.array(
+            [None if v is None else str(v).upper() for v in column.astype(object)], dtype=object
+        )
     if pd.api.types.is_numeric_dtype(column):
         values = column.to_numpy(dtype=float, na_value=np.nan)
-        return np.array([None if math.isnan(x) else format_number(x) for x in values],
-                        dtype=object)
+        return np.array([None if math.isnan(x) else format_number(x) for x in values], dtype=object)
     out = np.empty(len(column), dtype=object)
     for i, v in enumerate(column.to_numpy(dtype=object, na_value=None)):
         if v is None or (isinstance(v, float) and math.isnan(v)):
@@ -93,11 +93,14 @@ def decode_variable(
         nums[~pd.isna(reasons)] = np.nan
         values: pd.Series = pd.Series(nums, index=raw.index)
     elif kind.has_levels:
-        labels = [var.value_labels.get(t, t) if t is not None else None for t in key]
-        cat = pd.Categorical(labels, categories=list(var.levels), ordered=kind.ordered)
-        bad = answered & (cat.codes == -1)
+        index_of = {level: i for i, level in enumerate(var.levels)}
+        codes_arr = np.array(
+            [index_of.get(var.value_labels.get(t, t), -1) if t is not None else -1 for t in key],
+            dtype=np.int64,
+        )
+        bad = answered & (codes_arr == -1)
         reasons[bad] = INVALID
-        codes_arr = np.where(pd.isna(reasons), cat.codes, -1)
+        codes_arr[~pd.isna(reasons)] = -1
         cat = pd.Categorical.from_codes(
             codes_arr, categories=list(var.levels), ordered=kind.ordered
         )
@@ -125,8 +128,9 @@ def decode_variable(
         if pd.api.types.is_datetime64_any_dtype(raw):
             dates = raw.copy()
         else:
-            dates = pd.to_datetime(pd.Series(key, index=raw.index, dtype=object),
-                                   errors="coerce", format="mixed")
+            dates = pd.to_datetime(
+                pd.Series(key, index=raw.index, dtype=object), errors="coerce", format="mixed"
+            )
         bad = answered & dates.isna().to_numpy()
         reasons[bad] = INVALID
         values = dates.where(pd.isna(reasons))
@@ -210,11 +214,12 @@ def _mark_skipped_option_groups(
             chosen_any |= values[c].to_numpy() == 1.0
         none_chosen = ~chosen_any
         for c in cols:
-            r = reasons[c].astype(object).to_numpy()
+            r = reasons[c].astype(object).to_numpy(copy=True)
             skip = none_chosen & pd.isna(r)
             r[skip] = MissingReason.SKIPPED.value
             v = values[c].to_numpy().copy()
             v[skip] = np.nan
             values[c] = pd.Series(v, index=values[c].index)
-            reasons[c] = pd.Series(pd.Categorical(r, categories=REASON_CATEGORIES),
-                                   index=values[c].index)
+            reasons[c] = pd.Series(
+                pd.Categorical(r, categories=REASON_CATEGORIES), index=values[c].index
+            )

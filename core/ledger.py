@@ -66,7 +66,10 @@ class Decision:
         if not self.reason or not self.reason.strip():
             raise PlaincountError("Every cleaning decision needs a reason in plain words.")
         needs_row = self.action in (
-            Action.CORRECT, Action.SET_MISSING, Action.REVERSE, Action.EXCLUDE
+            Action.CORRECT,
+            Action.SET_MISSING,
+            Action.REVERSE,
+            Action.EXCLUDE,
         )
         if needs_row and self.row is None:
             raise PlaincountError(f"A '{self.action.label}' decision needs a respondent.")
@@ -287,9 +290,19 @@ def _undo_ledger(project: Project, payload: dict[str, Any], undo: bool) -> Chang
                     "new_value, check_name, reason, scope, batch, withdraws, created, author) "
                     "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
                     (
-                        wave_id, Action.WITHDRAW.value, e.respondent, e.row,
-                        json.dumps(list(e.variables)), json.dumps(e.id), None, None,
-                        "Undone", e.scope, None, e.id, now(),
+                        wave_id,
+                        Action.WITHDRAW.value,
+                        e.respondent,
+                        e.row,
+                        json.dumps(list(e.variables)),
+                        json.dumps(e.id),
+                        None,
+                        None,
+                        "Undone",
+                        e.scope,
+                        None,
+                        e.id,
+                        now(),
                         project.settings().get("author", ""),
                     ),
                 )

@@ -15,8 +15,8 @@ import os
 import sqlite3
 import threading
 from collections.abc import Callable, Iterator
-from contextlib import contextmanager
-from dataclasses import dataclass, field
+from contextlib import contextmanager, suppress
+from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
@@ -161,9 +161,7 @@ UNDO_HANDLERS: dict[str, Callable[[Project, dict[str, Any], bool], Changes]] = {
 def table_to_parquet(frame: pd.DataFrame) -> bytes:
     """Columnar, compressed and lossless for the dtypes a raw table uses."""
     sink = io.BytesIO()
-    pq.write_table(
-        pa.Table.from_pandas(frame, preserve_index=False), sink, compression="zstd"
-    )
+    pq.write_table(pa.Table.from_pandas(frame, preserve_index=False), sink, compression="zstd")
     return sink.getvalue()
 
 
@@ -284,10 +282,8 @@ class Project:
     def close(self) -> None:
         with self._lock:
             if self._conn is not None:
-                try:
+                with suppress(sqlite3.Error):
                     self._conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
-                except sqlite3.Error:
-                    pass
                 self._conn.close()
                 self._conn = None  # type: ignore[assignment]
 
@@ -371,9 +367,7 @@ class Project:
             raise ProjectError(f"Unknown project settings: {', '.join(sorted(unknown))}.")
         merged = {**self.settings(), **changes}
         with self.transaction() as conn:
-            conn.execute(
-                "UPDATE meta SET value = ? WHERE key = 'settings'", (json.dumps(merged),)
-            )
+            conn.execute("UPDATE meta SET value = ? WHERE key = 'settings'", (json.dumps(merged),))
         return self.notify(Changes(settings=True))
 
     # ----------------------------------------------------------- instruments
@@ -545,9 +539,7 @@ class Project:
         The returned frame is shared; never modify it (copy first).
         """
         if wave_id not in self._raw_cache:
-            rows = self.query(
-                "SELECT raw_table, raw_sha256 FROM waves WHERE id = ?", (wave_id,)
-            )
+            rows = self.query("SELECT raw_table, raw_sha256 FROM waves WHERE id = ?", (wave_id,))
             if not rows:
                 raise ProjectError(f"The project has no wave number {wave_id}.")
             blob, digest = rows[0]

@@ -34,6 +34,7 @@ def print_rows(rows: list[list[str]]) -> None:
         cells = []
         for i, cell in enumerate(r):
             text = str(cell)
-            numeric = text.replace(",", "").replace("%", "").replace(".", "").lstrip("+-<").isdigit()
+            digits = text.replace(",", "").replace("%", "").replace(".", "")
+            numeric = digits.lstrip("+-<").isdigit()
             cells.append(text.rjust(widths[i]) if numeric and i else text.ljust(widths[i]))
         print("  ".join(cells).rstrip())
