@@ -568,7 +568,10 @@ class Project:
 
     def cached(self, key: tuple[Any, ...], compute: Callable[[], Any]) -> Any:
         """Memoise derived data (working data, tables) on ``key`` plus the project version."""
-        full = (*key, self.version)
+        return self.memo((*key, self.version), compute)
+
+    def memo(self, full: tuple[Any, ...], compute: Callable[[], Any]) -> Any:
+        """Memoise on exactly ``full``: the caller's key must say what the value depends on."""
         with self._lock:
             if full not in self._derived_cache:
                 if len(self._derived_cache) > 256:

@@ -6,6 +6,7 @@ through :func:`working_data`.
 
 from __future__ import annotations
 
+import hashlib
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -70,11 +71,16 @@ def respondent_ids(codebook: Codebook, raw: pd.DataFrame) -> pd.Series:
 
 
 def decoded(project: Project, wave_id: int) -> tuple[pd.DataFrame, pd.DataFrame]:
-    """Decoded values and reasons before the ledger, cached by project version."""
+    """Decoded values and reasons before the ledger.
+
+    Cached on the codebook's content rather than the project version, so recording a
+    cleaning decision does not decode the whole wave again.
+    """
     wave = project.wave(wave_id)
     codebook = project.codebook(wave.instrument_id)
-    return project.cached(
-        ("decoded", wave_id), lambda: decode_table(codebook, project.raw_table(wave_id))
+    digest = hashlib.sha256(codebook.dumps().encode()).hexdigest()
+    return project.memo(
+        ("decoded", wave_id, digest), lambda: decode_table(codebook, project.raw_table(wave_id))
     )
 
 
