@@ -37,6 +37,7 @@ DEFAULT_SETTINGS: dict[str, Any] = {
     "unstable_base": 30,  # percentages of groups smaller than this are flagged as unstable
     "missing_threshold": 5.0,  # % missing above which an item is marked
     "author": "",
+    "checks": {},  # cleaning-check settings (core.checks.CheckSettings as JSON)
 }
 
 _SCHEMA = """

@@ -7,6 +7,9 @@ through :func:`working_data`.
 from __future__ import annotations
 
 import hashlib
+import hashlib
+import threading
+import weakref
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -37,6 +40,8 @@ class WorkingData:
     excluded: frozenset[int] = frozenset()
     edits: dict[tuple[int, str], list[LedgerEntry]] = field(default_factory=dict)
     entries: list[LedgerEntry] = field(default_factory=list)
+    # The raw table as imported (shared, never modified): checks quote the original text.
+    raw: pd.DataFrame | None = field(default=None, repr=False)
 
     @property
     def n_rows(self) -> int:
@@ -70,18 +75,45 @@ def respondent_ids(codebook: Codebook, raw: pd.DataFrame) -> pd.Series:
     return pd.Series(np.arange(1, len(raw) + 1).astype(str), index=raw.index, dtype=object)
 
 
+# Decoded frames keyed on (codebook, raw table) rather than on the project version: a ledger
+# decision bumps the version but changes neither, so it must not re-decode the whole table.
+_DECODED: weakref.WeakKeyDictionary[Project, dict[int, tuple[tuple[str, str], tuple]]] = (
+    weakref.WeakKeyDictionary()
+)
+_DECODED_LOCK = threading.Lock()
+
+
+def codebook_fingerprint(codebook: Codebook) -> str:
+    """SHA-256 of the codebook's JSON: equal codebooks decode a raw table the same way."""
+    return hashlib.sha256(codebook.dumps().encode("utf-8")).hexdigest()
+
+
+def _decoded_with_ids(
+    project: Project, wave_id: int
+) -> tuple[pd.DataFrame, pd.DataFrame, pd.Series]:
+    wave = project.wave(wave_id)
+    codebook = project.codebook(wave.instrument_id)
+    key = (codebook_fingerprint(codebook), wave.raw_sha256)
+    with _DECODED_LOCK:
+        per_wave = _DECODED.setdefault(project, {})
+        hit = per_wave.get(wave_id)
+        if hit is None or hit[0] != key:
+            raw = project.raw_table(wave_id)
+            values, reasons = decode_table(codebook, raw)
+            hit = (key, (values, reasons, respondent_ids(codebook, raw)))
+            per_wave[wave_id] = hit
+    return hit[1]
+
+
 def decoded(project: Project, wave_id: int) -> tuple[pd.DataFrame, pd.DataFrame]:
     """Decoded values and reasons before the ledger.
 
-    Cached on the codebook's content rather than the project version, so recording a
-    cleaning decision does not decode the whole wave again.
+    Cached on the codebook's fingerprint and the raw table's hash, so recording a decision
+    (which changes the project version but neither of these) reuses the decoded frames.
+    The frames are shared: never modify them (copy first).
     """
-    wave = project.wave(wave_id)
-    codebook = project.codebook(wave.instrument_id)
-    digest = hashlib.sha256(codebook.dumps().encode()).hexdigest()
-    return project.memo(
-        ("decoded", wave_id, digest), lambda: decode_table(codebook, project.raw_table(wave_id))
-    )
+    values, reasons, _ = _decoded_with_ids(project, wave_id)
+    return values, reasons
 
 
 def working_data(project: Project, wave_id: int) -> WorkingData:
@@ -93,9 +125,11 @@ def _build(project: Project, wave_id: int) -> WorkingData:
     wave = project.wave(wave_id)
     codebook = project.codebook(wave.instrument_id)
     raw = project.raw_table(wave_id)
-    values0, reasons0 = decoded(project, wave_id)
+    values0, reasons0, ids = _decoded_with_ids(project, wave_id)
     entries = entries_for(project, wave_id)
-    return apply_ledger(wave_id, codebook, raw, values0, reasons0, surviving(entries), entries)
+    return apply_ledger(
+        wave_id, codebook, raw, values0, reasons0, surviving(entries), entries, ids=ids
+    )
 
 
 def apply_ledger(
@@ -106,6 +140,7 @@ def apply_ledger(
     reasons0: pd.DataFrame,
     decisions: list[LedgerEntry],
     entries: list[LedgerEntry] | None = None,
+    ids: pd.Series | None = None,
 ) -> WorkingData:
     """Replay surviving decisions, in order, over decoded data. Pure: inputs are not changed."""
     touched = {v for d in decisions for v in d.variables if v in values0.columns}
@@ -138,10 +173,11 @@ def apply_ledger(
         codebook=codebook,
         values=values,
         reasons=reasons,
-        respondent_ids=respondent_ids(codebook, raw),
+        respondent_ids=ids if ids is not None else respondent_ids(codebook, raw),
         excluded=frozenset(excluded),
         edits=edits,
         entries=list(entries if entries is not None else decisions),
+        raw=raw,
     )
 
 
