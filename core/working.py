@@ -7,9 +7,6 @@ through :func:`working_data`.
 from __future__ import annotations
 
 import hashlib
-import hashlib
-import threading
-import weakref
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -75,14 +72,6 @@ def respondent_ids(codebook: Codebook, raw: pd.DataFrame) -> pd.Series:
     return pd.Series(np.arange(1, len(raw) + 1).astype(str), index=raw.index, dtype=object)
 
 
-# Decoded frames keyed on (codebook, raw table) rather than on the project version: a ledger
-# decision bumps the version but changes neither, so it must not re-decode the whole table.
-_DECODED: weakref.WeakKeyDictionary[Project, dict[int, tuple[tuple[str, str], tuple]]] = (
-    weakref.WeakKeyDictionary()
-)
-_DECODED_LOCK = threading.Lock()
-
-
 def codebook_fingerprint(codebook: Codebook) -> str:
     """SHA-256 of the codebook's JSON: equal codebooks decode a raw table the same way."""
     return hashlib.sha256(codebook.dumps().encode("utf-8")).hexdigest()
@@ -91,26 +80,24 @@ def codebook_fingerprint(codebook: Codebook) -> str:
 def _decoded_with_ids(
     project: Project, wave_id: int
 ) -> tuple[pd.DataFrame, pd.DataFrame, pd.Series]:
+    """Decoded frames plus respondent ids, memoised on the codebook's content (not version)."""
     wave = project.wave(wave_id)
     codebook = project.codebook(wave.instrument_id)
-    key = (codebook_fingerprint(codebook), wave.raw_sha256)
-    with _DECODED_LOCK:
-        per_wave = _DECODED.setdefault(project, {})
-        hit = per_wave.get(wave_id)
-        if hit is None or hit[0] != key:
-            raw = project.raw_table(wave_id)
-            values, reasons = decode_table(codebook, raw)
-            hit = (key, (values, reasons, respondent_ids(codebook, raw)))
-            per_wave[wave_id] = hit
-    return hit[1]
+
+    def compute() -> tuple[pd.DataFrame, pd.DataFrame, pd.Series]:
+        raw = project.raw_table(wave_id)
+        values, reasons = decode_table(codebook, raw)
+        return values, reasons, respondent_ids(codebook, raw)
+
+    return project.memo(("decoded", wave_id, codebook_fingerprint(codebook)), compute)
 
 
 def decoded(project: Project, wave_id: int) -> tuple[pd.DataFrame, pd.DataFrame]:
     """Decoded values and reasons before the ledger.
 
-    Cached on the codebook's fingerprint and the raw table's hash, so recording a decision
-    (which changes the project version but neither of these) reuses the decoded frames.
-    The frames are shared: never modify them (copy first).
+    Cached on the codebook's content rather than the project version, so recording a
+    cleaning decision does not decode the whole wave again. The frames are shared: never
+    modify them (copy first).
     """
     values, reasons, _ = _decoded_with_ids(project, wave_id)
     return values, reasons
