@@ -43,10 +43,15 @@ class Variable:
     delimiter: str | None = None
     position: int = 0
     derived_from: str | None = None
+    # For a variable grouped from a numeric one (``derived_from``): the cut points between
+    # its groups. A value v falls in group i when cut_points[i-1] <= v < cut_points[i]; the
+    # first and last groups are open-ended. ``levels`` name the len(cut_points) + 1 groups.
+    cut_points: tuple[float, ...] = ()
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "kind", Kind(self.kind))
         object.__setattr__(self, "levels", tuple(str(x) for x in self.levels))
+        object.__setattr__(self, "cut_points", tuple(float(x) for x in self.cut_points))
         object.__setattr__(
             self,
             "missing_codes",
@@ -81,6 +86,7 @@ class Variable:
         data["levels"] = list(self.levels)
         data["missing_codes"] = {k: str(v) for k, v in self.missing_codes.items()}
         data["range"] = list(self.range) if self.range is not None else None
+        data["cut_points"] = list(self.cut_points)
         return data
 
     @classmethod

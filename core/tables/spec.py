@@ -12,6 +12,7 @@ TREATMENTS = ("available", "complete", "impute", "show-missing")
 SORTS = ("level", "frequency")
 SD_FORMULAS = ("population", "sample")
 BORDA_RULES = ("zero", "average", "modified")
+MISSING_ROWS = ("reason", "combined")
 
 
 @dataclass(frozen=True)
@@ -26,7 +27,8 @@ class TableSpec:
     wave: str | None = None
     instrument: str | None = None
     by: tuple[str, ...] = ()
-    percent: str = "column"
+    # Break-down groups run down the rows, so "row" (percent within each group) is the default.
+    percent: str = "row"
     treatment: str = "available"
     complete_items: tuple[str, ...] = ()
     min_cell: int | None = None
@@ -40,6 +42,8 @@ class TableSpec:
     intervals: bool = False
     compare_waves: tuple[str, ...] = ()
     chart: str | None = None
+    # With treatment "show-missing": one row per missing reason ("reason") or one row for all.
+    missing_rows: str = "reason"
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "by", tuple(self.by))
@@ -52,6 +56,7 @@ class TableSpec:
             ("sort", SORTS),
             ("sd", SD_FORMULAS),
             ("borda", BORDA_RULES),
+            ("missing_rows", MISSING_ROWS),
         ):
             value = getattr(self, name)
             if value not in allowed:
