@@ -553,7 +553,7 @@ def missing_by_group(
     else:
         notes.append(
             "Chi-square test of independence without continuity correction, "
-            f"X² = {test['chi2']:.2f}, df = {test['df']}, p = {_p(test['p_value'])}, "
+            f"X² = {test['chi2']:.2f}, df = {test['df']}, {_p_eq(test['p_value'])}, "
             f"Cramér's V = {test['cramers_v']:.2f}."
         )
         if not test["cochran_ok"]:
@@ -778,6 +778,11 @@ def _p(p: float | None) -> str:
     return "< 0.001" if p < 0.001 else f"{p:.3f}"
 
 
+def _p_eq(p: float | None) -> str:
+    text = _p(p)
+    return "p " + text if text.startswith("<") else "p = " + text
+
+
 def _pct(x: float) -> str:
     return f"{x:.1f} %"
 
@@ -841,14 +846,16 @@ def summary_paragraphs(working: WorkingData, threshold: float = DEFAULT_THRESHOL
         tab = drop.table.iloc[:-1]
         top = tab.sort_values("n_stopped_here", ascending=False).iloc[0]
         paras.append(
-            f"{drop.n_reached_end} respondents answered the last item; {drop.n_stopped_early} "
-            f"stopped earlier, most often after {top['variable']} ({int(top['n_stopped_here'])} "
-            "respondents)."
+            f"{drop.n_reached_end} respondents answered the last item. For the other "
+            f"{drop.n_stopped_early + drop.n_answered_nothing}, the last item they answered "
+            f"was most often {top['variable']} ({int(top['n_stopped_here'])} respondents)."
             + (
                 f" {drop.n_answered_nothing} answered no item at all."
                 if drop.n_answered_nothing
                 else ""
             )
+            + " Some simply skipped the last item; a run of stops in one place suggests "
+            "respondents gave up there."
         )
     trend = position_trend(working)
     if trend.rising:
@@ -876,9 +883,12 @@ def summary_paragraphs(working: WorkingData, threshold: float = DEFAULT_THRESHOL
     if len(strong):
         bits = []
         for r in strong.head(3).itertuples():
-            groups = sorted(r.pct_missing_by_group.items(), key=lambda x: -x[1])
+            # name the extremes among groups big enough for a stable percentage
+            sizes = r.n_by_group
+            big = {g: v for g, v in r.pct_missing_by_group.items() if sizes[g] >= 30}
+            groups = sorted((big or r.pct_missing_by_group).items(), key=lambda x: -x[1])
             spread = f"{groups[0][0]} {_pct(groups[0][1])}, {groups[-1][0]} {_pct(groups[-1][1])}"
-            bits.append(f"{r.variable} by {r.by} ({spread}; p {_p(r.p_value)})")
+            bits.append(f"{r.variable} by {r.by} ({spread}; {_p_eq(r.p_value)})")
         paras.append(
             "Missing answers differ clearly between groups for "
             f"{_listing(bits)}. " + SCREENING_NOTE + " Tables that use only those who "

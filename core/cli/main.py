@@ -11,6 +11,8 @@ from core.errors import PlaincountError
 # Each module defines register(subparsers); a command's handler takes args and returns 0/1/2.
 COMMAND_MODULES = [
     "core.cli.project_commands",
+    "core.cli.missing_commands",
+    "core.cli.demo_commands",
 ]
 
 
