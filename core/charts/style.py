@@ -1,0 +1,216 @@
+"""How every chart looks: slide-readable type, a wrapped question title, base and notes below.
+
+Charts are read on slides and in printed reports, often from the back of a room, so type is
+large, value labels sit directly on the bars (no need to read an axis), and everything that
+does not carry information is left out: no 3-D, no gridlines behind labelled bars, no box
+around the plot. Sizes are in points and scale with the figure width, so a small gallery
+thumbnail and a full 1920 x 1080 slide keep the same proportions.
+"""
+
+from __future__ import annotations
+
+import textwrap
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass
+
+from matplotlib.axes import Axes
+from matplotlib.container import BarContainer
+from matplotlib.figure import Figure
+
+from core.charts import palette
+
+# The reference figure: 1920 x 1080 pixels at 150 dpi is 12.8 x 7.2 inches.
+REFERENCE_WIDTH_IN = 12.8
+# Average glyph width as a share of the font size for a sans-serif face; used to wrap text
+# to the figure width before drawing (common practice, no source; checked by eye here).
+GLYPH_WIDTH = 0.55
+
+SUPPRESSED_NOTE = (
+    "Counts below the small-cell threshold are hidden to protect respondents' "
+    "confidentiality; they are not drawn."
+)
+HIDDEN_LABEL = "hidden"
+
+
+@dataclass(frozen=True)
+class Sizes:
+    """Font sizes (points) for one figure."""
+
+    title: float
+    label: float
+    tick: float
+    value: float
+    note: float
+    legend: float
+
+
+def sizes_for(figure: Figure) -> Sizes:
+    """Type sizes scaled to the figure width (limited, so thumbnails stay legible)."""
+    width_in = figure.get_figwidth()
+    scale = min(max(width_in / REFERENCE_WIDTH_IN, 0.45), 1.6)
+    return Sizes(
+        title=20 * scale,
+        label=15 * scale,
+        tick=14 * scale,
+        value=13 * scale,
+        note=11 * scale,
+        legend=13 * scale,
+    )
+
+
+def wrap(text: str, figure: Figure, fontsize: float, share: float = 0.96) -> str:
+    """Wrap ``text`` to ``share`` of the figure width at ``fontsize``."""
+    width_pt = figure.get_figwidth() * 72 * share
+    chars = max(int(width_pt / (fontsize * GLYPH_WIDTH)), 12)
+    paragraphs = [p for p in str(text).splitlines() if p.strip()] or [""]
+    return "\n".join(textwrap.fill(p, chars, break_on_hyphens=False) for p in paragraphs)
+
+
+def wrap_label(text: str, width: int = 28) -> str:
+    """Wrap a category label so long answer texts do not squeeze the plot."""
+    return textwrap.fill(str(text), width, break_long_words=False, break_on_hyphens=False) or str(
+        text
+    )
+
+
+def prepare(figure: Figure) -> Sizes:
+    """Clear ``figure`` and set the layout engine that makes room for titles and notes."""
+    figure.clear()
+    figure.set_layout_engine("constrained")
+    engine = figure.get_layout_engine()
+    engine.set(w_pad=0.08, h_pad=0.08, hspace=0.04, wspace=0.04)
+    figure.set_facecolor("white")
+    return sizes_for(figure)
+
+
+def add_title(figure: Figure, title: str, sizes: Sizes) -> None:
+    """The question text as a left-aligned, wrapped title."""
+    if not title:
+        return
+    figure.suptitle(
+        wrap(title, figure, sizes.title),
+        x=0.01,
+        ha="left",
+        fontsize=sizes.title,
+        fontweight="bold",
+        color=palette.INK,
+        multialignment="left",
+    )
+
+
+def footer_lines(base: str, notes: Iterable[str], extra: Iterable[str] = ()) -> list[str]:
+    """Base line first, then the table's notes, then the chart's own notes (no repeats)."""
+    lines: list[str] = []
+    for line in [base, *notes, *extra]:
+        line = str(line or "").strip()
+        if line and line not in lines:
+            lines.append(line)
+    return lines
+
+
+def add_footer(figure: Figure, lines: Sequence[str], sizes: Sizes) -> None:
+    """Base and notes under the chart, as under a table."""
+    if not lines:
+        return
+    text = "\n".join(wrap(line, figure, sizes.note) for line in lines)
+    figure.supxlabel(
+        text,
+        x=0.01,
+        ha="left",
+        fontsize=sizes.note,
+        color=palette.MUTED_INK,
+        multialignment="left",
+    )
+
+
+def clean_axes(
+    ax: Axes, keep: Sequence[str] = ("left",), ticks: Sequence[str] = ("x", "y")
+) -> None:
+    """Remove spines not in ``keep`` and gridlines; ``ticks`` lists axes that keep tick marks."""
+    for side, spine in ax.spines.items():
+        spine.set_visible(side in keep)
+        spine.set_color(palette.MUTED_INK)
+    ax.grid(False)
+    ax.set_facecolor("white")
+    for axis in ("x", "y"):
+        if axis not in ticks:
+            ax.tick_params(axis=axis, length=0)
+
+
+def hide_value_axis(ax: Axes, axis: str) -> None:
+    """Values are labelled on the bars, so the value axis would only repeat them."""
+    if axis == "x":
+        ax.xaxis.set_visible(False)
+        ax.spines["bottom"].set_visible(False)
+        ax.spines["top"].set_visible(False)
+    else:
+        ax.yaxis.set_visible(False)
+        ax.spines["left"].set_visible(False)
+        ax.spines["right"].set_visible(False)
+
+
+def label_bars(
+    ax: Axes,
+    container: BarContainer,
+    labels: Sequence[str],
+    sizes: Sizes,
+    *,
+    inside: bool = False,
+    colours: Sequence[str] | None = None,
+) -> None:
+    """Direct value labels: at the bar end, or centred inside stacked segments."""
+    if inside:
+        texts = ax.bar_label(
+            container, labels=list(labels), label_type="center", fontsize=sizes.value
+        )
+        for text, colour in zip(texts, colours or [palette.SINGLE] * len(texts)):
+            text.set_color(palette.ink_for(colour))
+    else:
+        ax.bar_label(
+            container,
+            labels=list(labels),
+            padding=3,
+            fontsize=sizes.value,
+            color=palette.INK,
+        )
+
+
+def add_legend(
+    figure: Figure, handles: Sequence[object], labels: Sequence[str], sizes: Sizes
+) -> None:
+    """One row of legend keys above the plot, in the order of the scale.
+
+    The legend belongs to the (first) axes and sits just above it, so the layout engine
+    stacks title, legend and plot without overlap.
+    """
+    if not handles or not figure.axes:
+        return
+    ax = figure.axes[0]
+    ncols = len(handles) if len(handles) <= 7 else (len(handles) + 1) // 2
+    ax.legend(
+        handles,
+        [wrap_label(lbl, 22) for lbl in labels],
+        loc="lower left",
+        bbox_to_anchor=(0.0, 1.01),
+        ncols=ncols,
+        frameon=False,
+        fontsize=sizes.legend,
+        handlelength=1.2,
+        columnspacing=1.2,
+        borderaxespad=0.0,
+    )
+
+
+def percent_text(value: float, decimals: int = 0) -> str:
+    """A percentage for a bar label ("43%"); slides read whole percentages best."""
+    return f"{value:.{decimals}f}%"
+
+
+def count_text(value: float) -> str:
+    return f"{int(round(value)):,}"
+
+
+def number_text(value: float) -> str:
+    if float(value).is_integer():
+        return f"{int(value):,}"
+    return f"{value:,.1f}"
