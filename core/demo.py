@@ -9,6 +9,7 @@ code can measure what they find against what was planted.
 
 from __future__ import annotations
 
+import inspect
 import io
 import json
 import zipfile
@@ -24,6 +25,8 @@ from openpyxl.styles import Alignment, Font
 from openpyxl.writer.excel import ExcelWriter
 
 from core.errors import PlaincountError
+from core.progress import Progress
+from core.project import Project
 
 SEED = 2026
 WAVES = ("2026", "2027")
@@ -363,8 +366,16 @@ def _answers(rng: np.random.Generator, people: pd.DataFrame, year: int) -> pd.Da
 
     # Agreement battery: one common factor (how the course went) plus item noise; the two
     # negatively worded items run the other way.
-    means = {"agree_1": 4.0, "agree_2": 3.9, "agree_3": 2.5, "agree_4": 3.9, "agree_5": 4.1,
-             "agree_6": 2.4, "agree_7": 3.6, "agree_8": 4.0}  # fmt: skip
+    means = {
+        "agree_1": 4.0,
+        "agree_2": 3.9,
+        "agree_3": 2.5,
+        "agree_4": 3.9,
+        "agree_5": 4.1,
+        "agree_6": 2.4,
+        "agree_7": 3.6,
+        "agree_8": 4.0,
+    }
     for item in AGREE_ITEMS:
         loading = 0.75
         x = loading * z + np.sqrt(1 - loading**2) * rng.normal(0, 1, n)
@@ -490,8 +501,15 @@ class _Planter:
         self.used.add(row)
         return row
 
-    def record(self, row: int, problem: str, variables: list[str], value: Any,
-               checks: list[str], **extra: Any) -> None:  # fmt: skip
+    def record(
+        self,
+        row: int,
+        problem: str,
+        variables: list[str],
+        value: Any,
+        checks: list[str],
+        **extra: Any,
+    ) -> None:
         self.problems.append(
             {
                 "id": f"{self.wave}-{len(self.problems) + 1:02d}",
@@ -510,9 +528,16 @@ class _Planter:
         for col, val in values.items():
             self.frame.at[row, col] = val
 
-    def numeric(self, column: str, value: int, problem: str, checks: list[str],
-                note: str, eligible: pd.Series | None = None,
-                **extra: Any) -> int:  # fmt: skip
+    def numeric(
+        self,
+        column: str,
+        value: int,
+        problem: str,
+        checks: list[str],
+        note: str,
+        eligible: pd.Series | None = None,
+        **extra: Any,
+    ) -> int:
         answered = self.frame[column].notna() & (self.frame[column] != -99)
         row = self.pick(answered if eligible is None else answered & eligible)
         self.set(row, {column: value})
@@ -678,22 +703,52 @@ def _plant_2026(rng: np.random.Generator, frame: pd.DataFrame) -> tuple[pd.DataF
     _record_duplicates(p, dups)
     clean = ~frame["_dup"]
     eligible = clean & frame["credits_term"].eq(12)
-    p.numeric("credits_term", 120, "wandering_zero", ["wandering_zero", "range", "outlier"],
-              "Entered 120 where 12 was meant (a wandering zero).", eligible,
-              suggested=12)  # fmt: skip
+    p.numeric(
+        "credits_term",
+        120,
+        "wandering_zero",
+        ["wandering_zero", "range", "outlier"],
+        "Entered 120 where 12 was meant (a wandering zero).",
+        eligible,
+        suggested=12,
+    )
     works40 = clean & frame["hours_work_week"].eq(40)
-    p.numeric("hours_work_week", 400, "wandering_zero", ["wandering_zero", "range", "outlier"],
-              "Entered 400 where 40 was meant (a wandering zero).", works40,
-              suggested=40)  # fmt: skip
-    p.numeric("age", 7, "impossible_value", ["range"],
-              "An age of 7 is impossible for an adult program.", clean)  # fmt: skip
-    p.numeric("hours_work_week", 190, "impossible_value", ["range", "outlier"],
-              "190 hours is more than the 168 hours in a week.", clean,
-              also_possible=["wandering_zero"])  # fmt: skip
+    p.numeric(
+        "hours_work_week",
+        400,
+        "wandering_zero",
+        ["wandering_zero", "range", "outlier"],
+        "Entered 400 where 40 was meant (a wandering zero).",
+        works40,
+        suggested=40,
+    )
+    p.numeric(
+        "age",
+        7,
+        "impossible_value",
+        ["range"],
+        "An age of 7 is impossible for an adult program.",
+        clean,
+    )
+    p.numeric(
+        "hours_work_week",
+        190,
+        "impossible_value",
+        ["range", "outlier"],
+        "190 hours is more than the 168 hours in a week.",
+        clean,
+        also_possible=["wandering_zero"],
+    )
     older = clean & (pd.to_numeric(frame["age"], errors="coerce") >= 40)
-    row = p.numeric("years_experience", 38, "real_outlier", ["outlier"],
-                    "Real: an older participant with a long career in the trades. Keep it.",
-                    older, keep=True)  # fmt: skip
+    row = p.numeric(
+        "years_experience",
+        38,
+        "real_outlier",
+        ["outlier"],
+        "Real: an older participant with a long career in the trades. Keep it.",
+        older,
+        keep=True,
+    )
     p.set(row, {"age": 61})
     p.problems[-1]["context"] = {"age": 61}
     for k in range(3):
@@ -712,12 +767,24 @@ def _plant_2027(rng: np.random.Generator, frame: pd.DataFrame) -> tuple[pd.DataF
     p = _Planter(rng, frame, "2027")
     _record_duplicates(p, dups)
     clean = ~frame["_dup"]
-    p.numeric("credits_term", 150, "wandering_zero", ["wandering_zero", "range", "outlier"],
-              "Entered 150 where 15 was meant (a wandering zero).",
-              clean & frame["credits_term"].eq(15), suggested=15)  # fmt: skip
-    p.numeric(p.hours, 170, "impossible_value", ["range", "outlier"],
-              "170 hours is more than the 168 hours in a week.", clean,
-              also_possible=["wandering_zero"])  # fmt: skip
+    p.numeric(
+        "credits_term",
+        150,
+        "wandering_zero",
+        ["wandering_zero", "range", "outlier"],
+        "Entered 150 where 15 was meant (a wandering zero).",
+        clean & frame["credits_term"].eq(15),
+        suggested=15,
+    )
+    p.numeric(
+        p.hours,
+        170,
+        "impossible_value",
+        ["range", "outlier"],
+        "170 hours is more than the 168 hours in a week.",
+        clean,
+        also_possible=["wandering_zero"],
+    )
     p.reversed_scale(3)
     for level in ("Neither agree nor disagree", "Agree"):
         p.straight_line(level)
@@ -757,7 +824,7 @@ def _patterns(waves: dict[str, pd.DataFrame]) -> dict[str, Any]:
         fatigue[label] = {
             "pct_skipped_by_item": {
                 c: round(100 * float(_blank(frame[c]).mean()), 1) for c in items
-            },  # fmt: skip
+            },
         }
         early = items[: items.index("rank_transit")]
         low[label] = {
@@ -793,8 +860,68 @@ def _patterns(waves: dict[str, pd.DataFrame]) -> dict[str, Any]:
             "household_income_band": {DECLINED: "declined"},
             "gender": {DECLINED: "declined"},
             "employed_in_field": {"N/A": "not_applicable"},
-        },  # fmt: skip
+        },
     }
+
+
+def expected_codebook() -> list[dict[str, Any]]:
+    """What a careful evaluator would record for each 2026 column (for inference tests).
+
+    ``levels`` are in their natural order for ordered kinds (Likert, ordinal); for
+    categorical kinds the order carries no meaning. Groups are given as lists of members
+    (``groups`` in the manifest), because a group's name is the codebook's own choice.
+    """
+    kinds: dict[str, tuple[str, tuple[str, ...], dict[str, str]]] = {
+        "resp_id": ("identifier", (), {}),
+        "started_at": ("date", (), {}),
+        "finished_at": ("date", (), {}),
+        "cohort": ("categorical", COHORTS, {}),
+        "track": ("categorical", TRACKS, {}),
+        "age": ("numeric", (), {"-99": "declined"}),
+        "gender": ("categorical", GENDERS[:4], {DECLINED: "declined"}),
+        "credits_term": ("numeric", (), {}),
+        "hours_work_week": ("numeric", (), {}),
+        "years_experience": ("numeric", (), {}),
+        "household_income_band": ("ordinal", INCOME, {DECLINED: "declined"}),
+        **{item: ("likert", AGREE, {}) for item in AGREE_ITEMS},
+        **{item: ("likert", FREQUENCY, {}) for item in USE_ITEMS},
+        **{name: ("ranking", (), {}) for name in RANK_OPTIONS},
+        "barriers": ("multiselect", (*BARRIERS, NO_BARRIER), {}),
+        "completed": ("categorical", YES_NO, {}),
+        "credential_earned": ("categorical", YES_NO, {}),
+        "employed_in_field": ("categorical", YES_NO, {"N/A": "not_applicable"}),
+        "overall_satisfaction": ("likert", SATISFACTION, {}),
+        "best_part": ("text", (), {}),
+        "change_one_thing": ("text", (), {}),
+    }
+    keying = {
+        **dict.fromkeys(POSITIVE_ITEMS, "positive"),
+        **dict.fromkeys(NEGATIVE_ITEMS, "negative"),
+    }
+    out = []
+    for name in COLUMNS:
+        kind, levels, codes = kinds[name]
+        entry: dict[str, Any] = {
+            "name": name,
+            "question": QUESTIONS[name],
+            "kind": kind,
+            "levels": list(levels),
+            "missing_codes": dict(codes),
+            "keying": keying.get(name),
+        }
+        if name in RANK_OPTIONS:
+            entry["option"] = RANK_OPTIONS[name]
+        if name == "barriers":
+            entry["delimiter"] = MULTISELECT_DELIMITER.strip()
+        out.append(entry)
+    return out
+
+
+EXPECTED_GROUPS = {
+    "agreement battery": list(AGREE_ITEMS),
+    "use of supports": list(USE_ITEMS),
+    "ranking of supports": list(RANK_OPTIONS),
+}
 
 
 # ----------------------------------------------------------------------------- public API
@@ -882,6 +1009,8 @@ def generate(seed: int = SEED) -> DemoData:
             for old, new_level in REWORDED_2027.items()
         ],
         "codebook_settings": CODEBOOK_SETTINGS,
+        "expected_codebook": expected_codebook(),
+        "expected_groups": EXPECTED_GROUPS,
         "problems": problems26 + problems27,
         "patterns": _patterns(waves),
     }
@@ -959,22 +1088,109 @@ def _fixed_zip(data: bytes) -> bytes:
 def write_demo_files(folder: str | Path, seed: int = SEED) -> dict[str, Any]:
     """Write both survey workbooks and ``manifest.json`` into ``folder``; return the manifest.
 
-    The folder is created if needed. Existing demo files there are replaced (they are
-    generated, so nothing of the evaluator's is lost).
+    The folder is created if needed. A file of the same name that holds something else is
+    never overwritten: the evaluator's own files are safe. Re-writing identical demo files
+    (same seed) is allowed, because the output is byte-for-byte reproducible.
     """
     folder = Path(folder)
+    if folder.exists() and not folder.is_dir():
+        raise PlaincountError(f"{folder} is a file, not a folder.")
+    data = generate(seed)
+    contents: dict[str, bytes] = {
+        FILE_NAMES[label]: workbook_bytes(frame, data.questions[label])
+        for label, frame in data.waves.items()
+    }
+    text = json.dumps(data.manifest, ensure_ascii=False, indent=1) + "\n"
+    contents[MANIFEST_NAME] = text.encode("utf-8")
+    clashes = [
+        name
+        for name, blob in contents.items()
+        if (folder / name).exists() and (folder / name).read_bytes() != blob
+    ]
+    if clashes:
+        raise PlaincountError(
+            f"{folder} already holds {', '.join(clashes)} with other contents; they were "
+            "left as they are. Choose an empty folder for the demo."
+        )
     try:
         folder.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise PlaincountError(f"Could not create the folder {folder}: {exc.strerror}.") from None
-    data = generate(seed)
-    try:
-        for label, frame in data.waves.items():
-            (folder / FILE_NAMES[label]).write_bytes(workbook_bytes(frame, data.questions[label]))
-        text = json.dumps(data.manifest, ensure_ascii=False, indent=1) + "\n"
-        (folder / MANIFEST_NAME).write_text(text, encoding="utf-8")
+        for name, blob in contents.items():
+            (folder / name).write_bytes(blob)
     except OSError as exc:
         raise PlaincountError(
-            f"Could not write the demo files into {folder}: {exc.strerror}."
+            f"Could not write the demo files into {folder}: {exc.strerror or exc}."
         ) from None
     return data.manifest
+
+
+def build_demo_project(
+    folder: str | Path, seed: int = SEED, progress: Progress | None = None
+) -> Path:
+    """Build ``harbor_point_demo.plaincount`` in ``folder`` from the two demo workbooks.
+
+    The workbooks (and manifest) are written first if they are not there yet. Both waves are
+    imported into the instrument "Participant survey" and the demo codebook settings (plausible
+    ranges, keying of the agreement items, the identifier) are applied, so the project opens
+    ready to clean. Returns the project's path. An existing project is never replaced, and a
+    failed build leaves no half-made project behind.
+    """
+    from core.importing import import_file  # imported here: generating files needs no importer
+
+    folder = Path(folder)
+    path = folder / PROJECT_NAME
+    if path.exists():
+        raise PlaincountError(
+            f"{path} already exists; it was left as it is. Delete it or choose another folder."
+        )
+    if not all((folder / name).exists() for name in (*FILE_NAMES.values(), MANIFEST_NAME)):
+        write_demo_files(folder, seed)
+    project = Project.create(path, name="Harbor Point Trades Bridge (demo)")
+    try:
+        with project:
+            first = import_file(
+                project,
+                folder / FILE_NAMES["2026"],
+                instrument=INSTRUMENT,
+                wave="2026",
+                header_rows=2,
+                progress=progress,
+            )
+            instrument_id = first.wave.instrument_id
+            settings = list(CODEBOOK_SETTINGS)
+            if _accepts(import_file, "column_map"):
+                # The 2027 export renamed one column and reworded one scale label: map both to
+                # this year's codebook so the waves line up.
+                settings += [
+                    {
+                        "name": item,
+                        "value_labels": {
+                            **project.codebook(instrument_id)[item].value_labels,
+                            **{new: old for old, new in REWORDED_2027.items()},
+                        },
+                    }
+                    for item in USE_ITEMS
+                    if item in project.codebook(instrument_id)
+                ]
+            codebook, _changed = project.codebook(instrument_id).applied(settings)
+            project.set_codebook(instrument_id, codebook, label="Apply the demo codebook settings")
+            if _accepts(import_file, "column_map"):
+                import_file(
+                    project,
+                    folder / FILE_NAMES["2027"],
+                    instrument=INSTRUMENT,
+                    wave="2027",
+                    header_rows=2,
+                    codebook=project.codebook(instrument_id),
+                    column_map={new: old for old, new in RENAMED_2027.items()},
+                    progress=progress,
+                )
+    except BaseException:
+        path.unlink(missing_ok=True)
+        for suffix in ("-wal", "-shm"):
+            path.with_name(path.name + suffix).unlink(missing_ok=True)
+        raise
+    return path
+
+
+def _accepts(func: Any, parameter: str) -> bool:
+    return parameter in inspect.signature(func).parameters
