@@ -19,6 +19,7 @@ from matplotlib.ticker import FuncFormatter, MaxNLocator
 from core.charts import palette, shapes
 from core.charts.bars import MIN_LABELLED_SEGMENT, _group_label, level_colours
 from core.charts.style import (
+    GLYPH_WIDTH,
     SUPPRESSED_NOTE,
     Sizes,
     add_legend,
@@ -178,11 +179,16 @@ def draw_diverging(result: TableResult, figure: Figure, sizes: Sizes) -> list[st
                 color=palette.INK,
             )
 
-    limit = min(extent * 1.18, 100.0 * 1.18)
+    # Room at both ends for the bold totals: their width in points against half the plot.
+    half_plot_pt = figure.get_figwidth() * 72 * 0.6 / 2
+    room = max(0.18, (5 * GLYPH_WIDTH * sizes.value + 10) / half_plot_pt)
+    limit = min(extent, 100.0) * (1 + room)
     ax.set_xlim(-limit, limit)
     ax.axvline(0, color=palette.RULE, linewidth=1.0, zorder=3)
     ax.set_yticks(range(len(rows)), labels, fontsize=sizes.tick)
-    ax.invert_yaxis()
+    # Top to bottom in the table's order; a single bar is kept from filling the whole plot.
+    pad = max(0.0, (2.5 - len(rows)) / 2)
+    ax.set_ylim(len(rows) - 0.5 + pad, -0.5 - pad)
     ax.xaxis.set_major_locator(MaxNLocator(nbins=6, symmetric=True))
     ax.xaxis.set_major_formatter(FuncFormatter(lambda x, _pos: f"{abs(x):.0f}%"))
     ax.tick_params(axis="x", labelsize=sizes.tick * 0.85, colors=palette.MUTED_INK)

@@ -186,7 +186,12 @@ def add_legend(
     if not handles or not figure.axes:
         return
     ax = figure.axes[0]
-    ncols = len(handles) if len(handles) <= 7 else (len(handles) + 1) // 2
+    # As many keys per row as fit in the width the plot usually gets (about 60 % of the
+    # figure once category labels take their share).
+    longest = max(len(line) for lbl in labels for line in wrap_label(lbl, 22).splitlines())
+    per_key_pt = (longest * GLYPH_WIDTH + 3.0) * sizes.legend
+    fits = int(figure.get_figwidth() * 72 * 0.6 // per_key_pt)
+    ncols = max(1, min(len(handles), fits))
     ax.legend(
         handles,
         [wrap_label(lbl, 22) for lbl in labels],
