@@ -13,6 +13,7 @@ import sqlite3
 from dataclasses import dataclass
 from typing import Any
 
+from core.charts import chart_types
 from core.errors import PlaincountError
 from core.project import UNDO_HANDLERS, Changes, Project, now
 from core.tables.result import TableResult
@@ -209,8 +210,6 @@ UNDO_HANDLERS["outline"] = _undo_outline
 
 
 def _check_chart(result: TableResult, chart_type: str) -> None:
-    from core.charts import chart_types
-
     allowed = chart_types(result)
     if chart_type not in allowed:
         if not allowed:

@@ -11,6 +11,7 @@ from __future__ import annotations
 import io
 from html import escape
 
+from core.charts import make_figure
 from core.tables.result import Cell, TableResult
 
 _FONT = "font-family:Arial,Helvetica,sans-serif;font-size:10pt;"
@@ -79,7 +80,7 @@ def chart_png(
     dpi: int = 150,
 ) -> bytes:
     """The result's chart as PNG bytes (drawn off-screen; no window needed)."""
-    figure = _figure(result, chart_type, width_px, height_px, dpi)
+    figure = make_figure(result, chart_type, width_px=width_px, height_px=height_px, dpi=dpi)
     buffer = io.BytesIO()
     figure.savefig(buffer, format="png", dpi=dpi)
     return buffer.getvalue()
@@ -94,7 +95,7 @@ def chart_images(
     svg: bool = True,
 ) -> tuple[bytes, bytes | None]:
     """PNG and SVG bytes of one chart drawn once (exports need both; drawing is the cost)."""
-    figure = _figure(result, chart_type, width_px, height_px, dpi)
+    figure = make_figure(result, chart_type, width_px=width_px, height_px=height_px, dpi=dpi)
     png = io.BytesIO()
     figure.savefig(png, format="png", dpi=dpi)
     if not svg:
@@ -102,12 +103,6 @@ def chart_images(
     vector = io.BytesIO()
     figure.savefig(vector, format="svg", dpi=dpi)
     return png.getvalue(), vector.getvalue()
-
-
-def _figure(result: TableResult, chart_type: str | None, width_px: int, height_px: int, dpi: int):  # noqa: ANN202 - a matplotlib Figure
-    from core.charts import make_figure
-
-    return make_figure(result, chart_type, width_px=width_px, height_px=height_px, dpi=dpi)
 
 
 def _numeric(cell: Cell) -> bool:

@@ -15,10 +15,13 @@ from datetime import date
 from typing import Any
 
 from core.codebook import Codebook, Variable
-from core.kinds import Kind
+from core.decoding import INVALID
+from core.kinds import REASON_LABELS, Kind, MissingReason
 from core.ledger import ACTION_LABELS, Action, entries_for, surviving
+from core.missing import REASONS, item_summary, summary_paragraphs
 from core.project import Project, Wave
 from core.tables.result import Cell, TableResult
+from core.working import working_data
 
 # ----------------------------------------------------------------- blocks
 
@@ -265,8 +268,6 @@ def suppression_sentence(project: Project, entries: list[Entry]) -> str:
 def appendix_blocks(project: Project, entries: list[Entry]) -> list[Block]:
     """The appendix "How the data were treated", one set of sections per wave reported."""
     from core.disclosure import treatment_appendix
-    from core.missing import item_summary, summary_paragraphs
-    from core.working import working_data
 
     blocks: list[Block] = [Heading(1, "How the data were treated")]
     waves = report_waves(project, entries)
@@ -344,37 +345,30 @@ def _response_rate(project: Project, wave: Wave) -> str | None:
 
 
 def _missing_grid(summary: Any) -> Grid:
-    base = {"variable", "position", "n_answered", "n_missing", "pct_missing", "above_threshold"}
-    reasons = [c for c in summary.columns if c not in base]
+    """Missing data by item: answered, missing, % missing, then each reason that occurs."""
+    records = summary.to_dict("records")
+    reasons = [r for r in REASONS if any(int(rec.get(r, 0)) for rec in records)]
     columns = ["Item", "Answered", "Missing", "% missing", *[_reason_label(r) for r in reasons]]
     rows = []
-    for rec in summary.to_dict("records"):
-        pct = rec.get("pct_missing")
+    for rec in records:
+        pct = float(rec["pct_missing"])
         rows.append(
             [
-                rec["variable"],
-                int(rec["n_answered"]),
-                int(rec["n_missing"]),
-                None if pct is None or pct != pct else f"{float(pct):.1f}%",
-                *[int(rec[r]) if rec[r] == rec[r] else None for r in reasons],
+                GridCell(printable(rec["variable"])),
+                GridCell(f"{int(rec['n_answered']):,}", numeric=True),
+                GridCell(f"{int(rec['n_missing']):,}", numeric=True),
+                GridCell(f"{pct:.1f}%", numeric=True, bold=bool(rec.get("above_threshold"))),
+                *[GridCell(f"{int(rec[r]):,}", numeric=True) for r in reasons],
             ]
         )
-    grid = plain_grid(columns, rows)
-    # Percent texts are numbers too: right-align them like the counts.
-    fixed = [
-        [GridCell(c.text, numeric=c.numeric or i == 3) for i, c in enumerate(row)]
-        for row in grid.rows
-    ]
-    return Grid(grid.columns, fixed)
+    return Grid(columns, rows)
 
 
 def _reason_label(reason: str) -> str:
-    from core.kinds import REASON_LABELS, MissingReason
-
     try:
         return REASON_LABELS[MissingReason(reason)]
     except ValueError:
-        return "Not a valid answer" if reason == "invalid" else str(reason)
+        return "Not a valid answer" if reason == INVALID else str(reason)
 
 
 def codebook_grid(variables: list[Variable]) -> Grid:
