@@ -96,7 +96,7 @@ def box_stats(result: TableResult) -> tuple[list[dict[str, Any]], bool]:
         n = (by_group.get(group) or {}).get("n")
         if n is None and group == "All":
             n = (data.get("stats") or {}).get("n")
-        label = wrap_label(str(group), 14)
+        label = "All respondents" if group == "All" else wrap_label(str(group), 14)
         if isinstance(n, int):
             label += f"\n(n = {n:,})"
         entry = {k: float(box[k]) for k in BOX_KEYS}

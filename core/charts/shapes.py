@@ -83,28 +83,30 @@ def neutral_index(result: TableResult, level_list: list[str]) -> int | None:
     return None
 
 
+# The percent base that gives shares within each break-down group (groups run down the rows).
+WITHIN_GROUP = "row"
+
+
 def group_percents(result: TableResult) -> dict[str, dict[str, float | None]]:
     """Share of each level within each group, in percent (None where suppressed).
 
-    With the default column percentages the table's own figures are used. For row or total
-    percentages the share within the group is worked out from the counts and the group base,
-    because a 100 % stacked column must add up within its group.
+    When the table's percentages are already within each group they are used as they are.
+    Otherwise (percentages of an answer or of the total) the share within the group is worked
+    out from the counts and the group base, because a clustered or 100 % stacked column must
+    compare groups on their own footing. A hidden group base hides the whole group.
     """
     data = result.data
     groups = [str(g) for g in data.get("groups", [])]
     lvls = levels(result)
-    percent_base = getattr(result.spec, "percent", "column")
+    percent_base = data.get("percent_base") or getattr(result.spec, "percent", WITHIN_GROUP)
     out: dict[str, dict[str, float | None]] = {}
     for g in groups:
-        if percent_base == "column" and isinstance(data.get("percents", {}).get(g), dict):
-            row = data["percents"][g]
-            out[g] = {lv: _num(row.get(lv)) for lv in lvls}
+        given = (data.get("percents") or {}).get(g)
+        if percent_base == WITHIN_GROUP and isinstance(given, dict):
+            out[g] = {lv: _num(given.get(lv)) for lv in lvls}
             continue
-        counts = data.get("counts", {}).get(g, {})
+        counts = (data.get("counts") or {}).get(g) or {}
         base = (data.get("group_bases") or {}).get(g)
-        if not base:
-            known = [c for c in counts.values() if c is not None]
-            base = sum(known) if known and len(known) == len(counts) else None
         out[g] = {
             lv: (None if counts.get(lv) is None or not base else 100.0 * counts[lv] / base)
             for lv in lvls

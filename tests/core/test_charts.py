@@ -372,13 +372,23 @@ def test_stacked100_adds_to_100_within_each_group():
     assert tops == {0.0: 100.0, 1.0: 100.0, 2.0: 80.0}  # Summer "No" is hidden, not drawn
 
 
-def test_stacked100_with_row_percents_recomputes_share_within_group():
-    res = completed_by_cohort(TableSpec("completed", by=("cohort",), percent="row"))
-    # Row percentages are shares within each answer; the chart needs shares within groups.
+def test_stacked100_with_answer_percents_recomputes_share_within_group():
+    res = completed_by_cohort(TableSpec("completed", by=("cohort",), percent="column"))
+    # Column percentages are shares within each answer; the chart needs shares within groups,
+    # worked out from the counts and group bases (Fall: 60 / 100 and 40 / 100).
+    res.data["percent_base"] = "column"
     res.data["percents"] = {"Fall": {"Yes": 54.5, "No": 80.0}}
     fig = figure_for(res, "stacked100")
     first = [p for p in bar_patches(fig.axes[0]) if abs(p.get_x() + p.get_width() / 2) < 1e-9]
     assert [p.get_height() for p in first] == [60.0, 40.0]
+
+
+def test_hidden_group_base_hides_the_whole_group():
+    res = completed_by_cohort(TableSpec("completed", by=("cohort",), percent="total"))
+    res.data["group_bases"]["Summer"] = None
+    fig = figure_for(res, "clustered")
+    heights = [[p.get_height() for p in c.patches] for c in fig.axes[0].containers]
+    assert heights == [[60.0, 40.0], [75.0, 25.0], []]
 
 
 # ------------------------------------------------------------------ Likert diverging
