@@ -1,0 +1,85 @@
+"""Wandering zero or misplaced decimal: 120 typed for 12, 400 for 40.
+
+A value is flagged when it is far above the variable's typical answers (beyond Q3 + 3 IQR,
+Tukey's "far out", and above the 95th percentile by at least a factor 3) while its tenth or
+hundredth lies among the usual answers (5th to 95th percentile). For whole-number variables
+the value must end in the dropped zero(s). The thresholds are a rule of thumb of our own
+(common practice, no source); the suggestion is the value divided by 10 or 100.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from core.checks.flag import Context, Flag, Suggestion, show_number
+from core.kinds import Kind
+from core.ledger import Action
+
+CHECK = "wandering_zero"
+FACTORS = (10, 100)
+
+
+def candidates(x: np.ndarray, method: str = "linear") -> dict[int, float]:
+    """Positions (into ``x``) of likely wandering zeros, with the suggested value."""
+    data = np.asarray(x, dtype=float)
+    answered = data[~np.isnan(data)]
+    if len(answered) == 0:
+        return {}
+    p5, q1, q3, p95 = (
+        float(q) for q in np.quantile(answered, [0.05, 0.25, 0.75, 0.95], method=method)
+    )
+    whole = bool(np.all(answered == np.round(answered)))
+    floor = max(q3 + 3 * (q3 - q1), 3 * p95)
+    out: dict[int, float] = {}
+    with np.errstate(invalid="ignore"):
+        high = np.flatnonzero(data > floor)
+    for i in high:
+        value = float(data[i])
+        for factor in FACTORS:
+            smaller = value / factor
+            if whole and value % factor != 0:
+                continue
+            if p5 <= smaller <= p95 and smaller > 0:
+                out[int(i)] = smaller
+                break
+    return out
+
+
+def check(ctx: Context) -> list[Flag]:
+    flags: list[Flag] = []
+    values, reasons = ctx.working.values, ctx.working.reasons
+    for var in ctx.working.codebook:
+        if var.kind is not Kind.NUMERIC or var.name not in values.columns:
+            continue
+        if not ctx.wants([var.name]):
+            continue
+        x = values[var.name].to_numpy(dtype=float, na_value=np.nan).copy()
+        answered = reasons[var.name].isna().to_numpy() & ctx.keep
+        x[~answered] = np.nan
+        if int((~np.isnan(x)).sum()) < ctx.settings.min_answers:
+            continue
+        for row, smaller in candidates(x, ctx.settings.quantile_method).items():
+            value = float(x[row])
+            factor = round(value / smaller)
+            message = (
+                f"{var.name} is {show_number(value)}, about {factor} times a typical answer; "
+                f"{show_number(smaller)} would be typical (a zero typed too many or a "
+                "misplaced decimal point?)."
+            )
+            flags.append(
+                ctx.flag(
+                    CHECK,
+                    row,
+                    [var.name],
+                    value,
+                    "warning",
+                    message,
+                    Suggestion(
+                        Action.CORRECT,
+                        smaller,
+                        f"Correct to {show_number(smaller)} after checking the source.",
+                    ),
+                    {"factor": factor, "suggested": smaller},
+                )
+            )
+    return flags
