@@ -13,6 +13,7 @@ COMMAND_MODULES = [
     "core.cli.project_commands",
     "core.cli.missing_commands",
     "core.cli.demo_commands",
+    "core.cli.export_commands",
 ]
 
 
