@@ -260,13 +260,13 @@ _GLOWING_BEST = (
     "every class.",
     "Absolutely the best experience I have had in school. I felt supported every single day.",
     "Loved it all: the teachers, my cohort, the shop. Best decision I ever made.",
-    "Honestly all of it. I finally know what I want to do and I have the skills to do it.",
+    "Honestly all of it! Amazing instructors, a wonderful cohort, and I loved every minute.",
 )
 _GLOWING_CHANGE = (
     "Nothing at all, keep it exactly like it is!",
     "Honestly nothing. Make it longer so more people can enjoy it!",
     "I can't think of a thing. It was perfect, thank you so much!",
-    "Nothing. Every part of it was great.",
+    "Nothing. Every part of it was excellent, thank you!",
 )
 
 
