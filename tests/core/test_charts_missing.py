@@ -1,0 +1,124 @@
+"""Missing-data charts: asserted on the Figure (size, items, palette colours, titles)."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.figure import Figure
+from matplotlib.image import AxesImage
+
+from core import charts_missing as cm
+from core.errors import PlaincountError
+from core.missing import dropoff, item_variables
+from core.working import working_data
+from tests.core.test_missing import synthetic_project
+
+# Okabe & Ito (2008) colour-blind-safe palette, hex values from METHODS.md §13.
+PALETTE = {"#000000", "#E69F00", "#56B4E9", "#009E73", "#F0E442", "#0072B2", "#D55E00", "#CC79A7"}
+
+
+@pytest.fixture
+def working(tmp_path):
+    project, wave_id = synthetic_project(tmp_path, n=2500)
+    yield working_data(project, wave_id)
+    project.close()
+
+
+def _pixels(figure: Figure) -> np.ndarray:
+    canvas = FigureCanvasAgg(figure)
+    canvas.draw()
+    return np.asarray(canvas.buffer_rgba())
+
+
+def test_palette_is_okabe_ito():
+    assert set(cm.OKABE_ITO.values()) == PALETTE
+    assert set(cm.REASON_COLOURS.values()) <= PALETTE
+    assert len(set(cm.REASON_COLOURS.values())) == len(cm.REASON_COLOURS)  # one per reason
+
+
+def test_matrix_figure(working):
+    fig = cm.make_missing_figure(working, "matrix", width_px=1600, height_px=900, dpi=100)
+    assert _pixels(fig).shape == (900, 1600, 4)
+    ax = fig.axes[0]
+    assert ax.get_title() == "Missing answers by respondent and item"
+    assert ax.title.get_fontsize() >= 16
+    names = [v.name for v in item_variables(working)]
+    assert [t.get_text() for t in ax.get_xticklabels()] == names
+    assert all(t.get_fontsize() >= 10 for t in ax.get_xticklabels())
+    (image,) = [a for a in ax.get_children() if isinstance(a, AxesImage)]
+    data = np.asarray(image.get_array())
+    # 2,500 respondents condensed to at most 800 lines, one column per item.
+    assert data.shape[1] == len(names) and data.shape[0] <= 800
+    assert "each line stands for 4 respondents" in ax.get_xlabel()
+    # Only "skipped" occurs in this data: the legend shows answered + skipped in palette colour.
+    legend = fig.legends[0]
+    labels = [t.get_text() for t in legend.get_texts()]
+    assert labels[0] == "Answered" and labels[1].startswith("Skipped (left blank)")
+    colour = cm.palette_hex(legend.legend_handles[1].get_facecolor())
+    assert colour == cm.REASON_COLOURS["skipped"] and colour in PALETTE
+    # The colour map draws reason codes in the same palette colours as the legend.
+    cmap = image.get_cmap()
+    assert cm.palette_hex(cmap(1)) == cm.REASON_COLOURS["skipped"]
+    assert {cm.palette_hex(cmap(i)) for i in range(1, 7)} <= PALETTE
+
+
+def test_sort_rows_puts_complete_rows_first():
+    codes = np.array([[1, 0], [0, 0], [1, 1], [0, 1], [0, 0]], dtype=np.int8)
+    order = cm.sort_rows(codes)
+    gaps = (codes[order] != 0).sum(axis=1)
+    assert gaps.tolist() == [0, 0, 1, 1, 2]
+    assert codes[order][2].tolist() == [0, 1] or codes[order][2].tolist() == [1, 0]
+
+
+def test_condense_rows_never_hides_a_gap():
+    codes = np.zeros((3000, 3), dtype=np.int8)
+    codes[1234, 1] = 3  # one not-applicable cell among 9,000
+    shown, per = cm.condense_rows(codes, 800)
+    assert per == 4 and shown.shape == (750, 3)
+    assert shown[1234 // 4, 1] == 3 and np.count_nonzero(shown) == 1
+    same, one = cm.condense_rows(codes[:10], 800)
+    assert one == 1 and same.shape == (10, 3)
+
+
+def test_dropoff_figure(working):
+    fig = cm.make_missing_figure(working, "dropoff")
+    assert _pixels(fig).shape == (1080, 1920, 4)
+    ax = fig.axes[0]
+    assert ax.get_title() == "Where respondents stopped answering"
+    table = dropoff(working).table
+    bars = [p for p in ax.patches if p.get_gid() == "unanswered"]
+    assert len(bars) == len(table)
+    np.testing.assert_allclose([b.get_height() for b in bars], table["pct_unanswered"])
+    (line,) = [ln for ln in ax.get_lines() if ln.get_gid() == "still_answering"]
+    np.testing.assert_allclose(line.get_ydata(), table["pct_still_answering"])
+    assert cm.palette_hex(line.get_color()) == cm.OKABE_ITO["blue"]
+    colours = {cm.palette_hex(b.get_facecolor()) for b in bars}
+    assert colours <= PALETTE
+    # The income question is skipped far more than its neighbours: drawn in vermillion.
+    income = table["variable"].tolist().index("household_income_band")
+    assert cm.palette_hex(bars[income].get_facecolor()) == cm.OKABE_ITO["vermillion"]
+    assert [t.get_text() for t in ax.get_xticklabels()] == table["variable"].tolist()
+
+
+def test_draws_onto_a_given_figure_and_saves(working, tmp_path):
+    fig = Figure(figsize=(8, 5), dpi=100)
+    cm.draw_missing_matrix(working, fig, title="Wave 2026")
+    assert fig.axes[0].get_title() == "Wave 2026"
+    cm.draw_dropoff(working, fig)  # redrawing replaces, never stacks
+    assert len(fig.axes) == 1
+    png = cm.save_missing_chart(working, tmp_path / "m.png", width_px=800, height_px=600)
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    svg = cm.save_missing_chart(working, tmp_path / "d.svg", chart="dropoff")
+    assert b"<svg" in svg.read_bytes()[:500]
+    with pytest.raises(PlaincountError, match="png or .svg"):
+        cm.save_missing_chart(working, tmp_path / "m.pdf")
+    with pytest.raises(PlaincountError, match="Unknown missing-data chart"):
+        cm.make_missing_figure(working, "pie")
+
+
+def test_module_uses_no_pyplot():
+    source = open(cm.__file__, encoding="utf-8").read()
+    assert (
+        "import matplotlib.pyplot" not in source and "from matplotlib import pyplot" not in source
+    )
