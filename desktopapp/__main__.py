@@ -1,0 +1,7 @@
+"""``python -m desktopapp`` runs the window, like the ``plaincount`` command."""
+
+import sys
+
+from desktopapp.app import main
+
+sys.exit(main())

@@ -1,0 +1,198 @@
+"""Instrument and wave nodes: what was imported, from which file, and the raw data as read."""
+
+from __future__ import annotations
+
+import json
+from collections import Counter
+from pathlib import Path
+from typing import Any
+
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QFileDialog,
+    QFormLayout,
+    QHBoxLayout,
+    QLabel,
+    QPushButton,
+    QTableView,
+    QVBoxLayout,
+    QWidget,
+)
+
+from core.project import Changes
+from desktopapp.import_dialog import FrameModel
+from desktopapp.project_tree import NodeType, TreeNode
+from desktopapp.undo import local_time
+from desktopapp.views import ViewContext, muted_label, section_label, title_label
+
+
+def register(registry: Any) -> None:
+    registry.add(NodeType.INSTRUMENT, ImportView)
+    registry.add(NodeType.WAVE, ImportView)
+
+
+def report_lines(report: dict[str, Any]) -> list[str]:
+    """The import report as short lines: ``key: value``, with nested values kept compact."""
+    lines = []
+    for key, value in report.items():
+        name = str(key).replace("_", " ").capitalize()
+        if isinstance(value, dict | list):
+            if not value:
+                continue
+            text = json.dumps(value, ensure_ascii=False, default=str)
+            if len(text) > 160:
+                text = text[:157] + "…"
+        else:
+            text = str(value)
+        lines.append(f"{name}: {text}")
+    return lines
+
+
+class ImportView(QWidget):
+    """For a wave: its source file and raw table. For an instrument: its waves and codebook."""
+
+    def __init__(self, context: ViewContext, node: TreeNode, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("importView")
+        self._context = context
+        self.node = node
+        self._layout = QVBoxLayout(self)
+        self._layout.setContentsMargins(24, 20, 24, 20)
+        self._layout.setSpacing(8)
+        self.import_button = QPushButton(
+            "Import another wave…" if node.type == NodeType.WAVE else "Import a wave…"
+        )
+        self.import_button.setObjectName("importButton")
+        self.import_button.clicked.connect(self._on_import_button_clicked)
+        self.raw_table: QTableView | None = None
+        if node.type == NodeType.WAVE:
+            self._build_wave()
+        else:
+            self._build_instrument()
+
+    # ------------------------------------------------------------------ wave
+    def _build_wave(self) -> None:
+        project = self._context.project
+        wave = project.wave(self.node.wave_id)
+        inst = project.instrument(wave.instrument_id)
+        head = QHBoxLayout()
+        head.addWidget(title_label(f"Wave {wave.label}"))
+        head.addStretch(1)
+        self.save_source_button = QPushButton("Save the original file…")
+        self.save_source_button.setObjectName("saveSourceButton")
+        self.save_source_button.setToolTip(
+            "The project keeps the exact file that was imported. Save a copy of it."
+        )
+        self.save_source_button.clicked.connect(self._on_save_source_button_clicked)
+        head.addWidget(self.save_source_button)
+        head.addWidget(self.import_button)
+        self._layout.addLayout(head)
+        self._layout.addWidget(muted_label(f"{inst.name}"))
+
+        facts = QFormLayout()
+        facts.setLabelAlignment(Qt.AlignmentFlag.AlignRight)
+        facts.addRow("Imported from", _selectable(Path(wave.source_name).name))
+        facts.addRow("Imported on", QLabel(local_time(wave.created)))
+        facts.addRow("Respondents (rows)", QLabel(f"{wave.n_rows:,}"))
+        facts.addRow("Columns", QLabel(f"{wave.n_columns:,}"))
+        fingerprint = _selectable(wave.source_sha256)
+        fingerprint.setToolTip(
+            "SHA-256 of the original file. Anyone holding the same file gets the same "
+            "fingerprint, so it shows which export the figures came from."
+        )
+        facts.addRow("Fingerprint (SHA-256)", fingerprint)
+        notes = report_lines(wave.import_report)
+        if notes:
+            notes_label = QLabel("\n".join(notes))
+            notes_label.setWordWrap(True)
+            notes_label.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+            facts.addRow("Import notes", notes_label)
+        self._layout.addLayout(facts)
+        self._layout.addSpacing(12)
+        self._layout.addWidget(section_label("Raw data, exactly as imported"))
+        self._layout.addWidget(
+            muted_label(
+                "This table never changes. Corrections are recorded in the ledger and applied on "
+                "top of it, so every figure can be traced back to these cells."
+            )
+        )
+        model = FrameModel(project.raw_table(wave.id), parent=self)
+        table = QTableView()
+        table.setObjectName("rawTable")
+        table.setModel(model)
+        table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        table.horizontalHeader().setDefaultSectionSize(110)
+        table.verticalHeader().setDefaultSectionSize(22)
+        self.raw_table = table
+        self._layout.addWidget(table, 1)
+
+    # ------------------------------------------------------------------ instrument
+    def _build_instrument(self) -> None:
+        project = self._context.project
+        inst = project.instrument(self.node.instrument_id)
+        head = QHBoxLayout()
+        head.addWidget(title_label(inst.name))
+        head.addStretch(1)
+        head.addWidget(self.import_button)
+        self._layout.addLayout(head)
+        self._layout.addWidget(
+            muted_label(
+                "A questionnaire and its waves: each wave is one round of answers to it. Waves "
+                "share the questionnaire's codebook, so next year's file is read the same way."
+            )
+        )
+        self._layout.addSpacing(12)
+        self._layout.addWidget(section_label("Waves"))
+        waves = project.waves(inst.id)
+        if not waves:
+            self._layout.addWidget(
+                muted_label(
+                    "No waves yet. Drop a spreadsheet or CSV file onto the window to add one."
+                )
+            )
+        for wave in waves:
+            link = QPushButton(
+                f"Wave {wave.label} — {wave.n_rows:,} respondents from "
+                f"{Path(wave.source_name).name}"
+            )
+            link.setFlat(True)
+            link.setStyleSheet("QPushButton { text-align: left; padding: 4px 0; }")
+            link.clicked.connect(
+                lambda _c=False, w=wave: self._context.select_requested(
+                    NodeType.WAVE, w.instrument_id, w.id
+                )
+            )
+            self._layout.addWidget(link)
+        self._layout.addSpacing(12)
+        self._layout.addWidget(section_label("Codebook"))
+        codebook = project.codebook(inst.id)
+        counts = Counter(var.kind.label for var in codebook)
+        if counts:
+            summary = ", ".join(f"{n} {label.lower()}" for label, n in counts.most_common())
+            self._layout.addWidget(QLabel(f"{len(codebook)} variables: {summary}."))
+        else:
+            self._layout.addWidget(muted_label("The codebook is empty."))
+        self._layout.addStretch(1)
+
+    # ------------------------------------------------------------------ slots
+    def project_changed(self, changes: Changes) -> None:
+        # Facts shown here change only with structure; the tree rebuild handles removals.
+        return
+
+    def _on_import_button_clicked(self) -> None:
+        self._context.import_requested(None, self.node.instrument_id)
+
+    def _on_save_source_button_clicked(self) -> None:
+        name, data = self._context.project.source_file(self.node.wave_id)
+        target, _ = QFileDialog.getSaveFileName(
+            self, "Save the original file", str(Path.home() / Path(name).name)
+        )
+        if target:
+            Path(target).write_bytes(data)
+
+
+def _selectable(text: str) -> QLabel:
+    label = QLabel(text)
+    label.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+    return label
