@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import numpy as np
 import pytest
 from matplotlib.backends.backend_agg import FigureCanvasAgg
@@ -118,7 +120,6 @@ def test_draws_onto_a_given_figure_and_saves(working, tmp_path):
 
 
 def test_module_uses_no_pyplot():
-    source = open(cm.__file__, encoding="utf-8").read()
-    assert (
-        "import matplotlib.pyplot" not in source and "from matplotlib import pyplot" not in source
-    )
+    source = Path(cm.__file__).read_text(encoding="utf-8")
+    assert "import matplotlib.pyplot" not in source
+    assert "from matplotlib import pyplot" not in source
