@@ -1,0 +1,211 @@
+"""Make a table: resolve the wave, apply the missing-data treatment, dispatch by kind.
+
+Each question kind gets the table its data type allows: numbers get descriptive statistics,
+categories a frequency table (a cross-tabulation with a break-down), rating scales their
+distribution with % agreeing, batteries one row per item, rankings Borda points, and
+choose-all-that-apply questions the share choosing each option.
+"""
+
+from __future__ import annotations
+
+import json
+from typing import Any
+
+from core.codebook import Codebook, Variable
+from core.errors import ProjectError, TableError
+from core.kinds import Kind
+from core.project import Project
+from core.tables.captions import (
+    GROUP_CAUTION,
+    cleaning_notes,
+    source_note,
+)
+from core.tables.context import Context, by_title
+from core.tables.result import TableResult
+from core.tables.spec import TableSpec
+from core.treatments import apply_treatment, treatment_notes
+from core.working import WorkingData, working_data
+
+
+def compute_table(project: Project, spec: TableSpec) -> TableResult:
+    """The table ``spec`` asks for, from the current working data of its wave.
+
+    The wave is ``spec.wave`` (a label) of ``spec.instrument``; with no wave, the latest
+    wave of the instrument whose codebook holds the variable. Results are cached until the
+    project changes.
+    """
+    wave = resolve_wave(project, spec)
+    key = ("table", wave.id, json.dumps(spec.to_json(), sort_keys=True, default=str))
+    return project.cached(key, lambda: _compute(project, spec, wave))
+
+
+def _compute(project: Project, spec: TableSpec, wave: Any) -> TableResult:
+    working = working_data(project, wave.id)
+    instrument = project.instrument(wave.instrument_id).name
+    variables = table_variables(working.codebook, spec)
+    settings = {
+        **project.settings(),
+        "wave": wave.label,
+        "instrument": instrument,
+        "population": bool(wave.settings.get("population", True)),
+        "cleaning_notes": cleaning_notes(project, wave.id, variables),
+    }
+    return table_for_working(working, spec, settings)
+
+
+def resolve_wave(project: Project, spec: TableSpec) -> Any:
+    """The wave a spec refers to (see :func:`compute_table`)."""
+    if spec.instrument is not None:
+        return project.find_wave(spec.wave, spec.instrument)
+    holders = [
+        inst for inst in project.instruments() if _knows(project.codebook(inst.id), spec.variable)
+    ]
+    if not holders:
+        raise TableError(f"No instrument in this project has a question called {spec.variable!r}.")
+    candidates = []
+    for inst in holders:
+        waves = project.waves(inst.id)
+        if spec.wave is not None:
+            waves = [w for w in waves if w.label == spec.wave]
+        if waves:
+            candidates.append(waves[-1])
+    if not candidates:
+        if spec.wave is not None:
+            raise ProjectError(
+                f"The project has no wave labelled {spec.wave!r} with {spec.variable}."
+            )
+        raise ProjectError("The project has no data yet: import a survey export first.")
+    if len(candidates) > 1 and spec.wave is not None:
+        raise ProjectError(
+            f"Several instruments have a wave {spec.wave!r} with "
+            f"{spec.variable}; name the instrument."
+        )
+    return candidates[-1]
+
+
+def _knows(codebook: Codebook, name: str) -> bool:
+    return name in codebook or name in codebook.groups()
+
+
+def table_variables(codebook: Codebook, spec: TableSpec) -> list[str]:
+    """Every column a table reads: the variable (or the group's members) and break-downs."""
+    var = codebook.get(spec.variable)
+    if var is not None and not (
+        var.kind in (Kind.RANKING,) or (var.kind is Kind.MULTISELECT and not var.delimiter)
+    ):
+        names = [var.name]
+    else:
+        group = spec.variable if var is None else (var.group or spec.variable)
+        names = [m.name for m in codebook.members(group)]
+    return [*names, *[b for b in spec.by if b not in names]]
+
+
+def table_for_working(
+    working: WorkingData, spec: TableSpec, settings: dict[str, Any] | None = None
+) -> TableResult:
+    """The table for ``spec`` from given working data (pure: nothing is read or written).
+
+    ``settings`` holds the project settings (``min_cell``, ``unstable_base``) and optionally
+    ``wave``, ``instrument``, ``population`` (bool) and ``cleaning_notes`` (sentences).
+    """
+    settings = dict(settings or {})
+    codebook = working.codebook
+    values, reasons = working.analysed()
+    kind, target = table_kind(codebook, spec.variable)
+    cols = table_variables(codebook, spec)
+    own = [c for c in cols if c not in spec.by]
+    treated = apply_treatment(
+        values,
+        reasons,
+        codebook,
+        spec.treatment,
+        own,
+        spec.by,
+        spec.complete_items,
+        spec.missing_rows,
+    )
+    min_cell = spec.min_cell if spec.min_cell is not None else int(settings.get("min_cell", 5))
+    ctx = Context(
+        codebook=codebook,
+        treated=treated,
+        spec=spec,
+        min_cell=int(min_cell),
+        unstable_base=int(settings.get("unstable_base", 30)),
+        wave=str(settings.get("wave", "")),
+        instrument=str(settings.get("instrument", "")),
+        population=bool(settings.get("population", True)),
+    )
+    result = _dispatch(ctx, kind, target)
+    if spec.by and " — by " not in result.title:
+        result.title = by_title(ctx, result.title)
+    notes = ctx.notes
+    notes.treatment = treatment_notes(treated, codebook) + notes.treatment
+    notes.cleaning = list(settings.get("cleaning_notes") or [])
+    notes.source.append(source_note(ctx.instrument, ctx.wave))
+    if spec.by and GROUP_CAUTION not in notes.cautions:
+        notes.cautions.append(GROUP_CAUTION)
+    result.notes = notes.as_list()
+    result.data.setdefault("min_cell", ctx.min_cell)
+    result.data["treatment"] = spec.treatment
+    return result
+
+
+def table_kind(codebook: Codebook, name: str) -> tuple[str, str]:
+    """(table family, name it applies to) for a variable or group name."""
+    var: Variable | None = codebook.get(name)
+    if var is not None:
+        if var.kind is Kind.NUMERIC:
+            return "numeric", name
+        if var.kind is Kind.LIKERT:
+            return "likert", name
+        if var.kind.has_levels:
+            return "categorical", name
+        if var.kind is Kind.MULTISELECT:
+            if var.delimiter:
+                return "multiselect", name
+            if var.group:
+                return "multiselect", var.group
+        if var.kind is Kind.RANKING and var.group:
+            return "ranking", var.group
+        what = {
+            Kind.TEXT: "open-ended text; read or code the comments instead",
+            Kind.IDENTIFIER: "an identifier; it is never tabulated",
+            Kind.DATE: "a date; tabulate something computed from it instead",
+            Kind.RANKING: "one option of a ranking without a question group; set its group",
+            Kind.MULTISELECT: (
+                "one option column without a question group; set its group in the codebook"
+            ),
+        }.get(var.kind, var.kind.label.lower())
+        raise TableError(f"{name} cannot be tabulated: it is {what}.")
+    groups = codebook.groups()
+    if name not in groups:
+        raise TableError(f"There is no variable or question group called {name!r}.")
+    kinds = {m.kind for m in groups[name]}
+    if kinds <= {Kind.LIKERT, Kind.ORDINAL} and kinds:
+        return "battery", name
+    if kinds == {Kind.RANKING}:
+        return "ranking", name
+    if kinds == {Kind.MULTISELECT}:
+        return "multiselect", name
+    listed = ", ".join(sorted(k.label.lower() for k in kinds))
+    raise TableError(
+        f"The question group {name} mixes kinds ({listed}); tabulate its items one by one."
+    )
+
+
+def _dispatch(ctx: Context, kind: str, target: str) -> TableResult:
+    from core.tables import crosstab, descriptives, frequency, likert, multiselect, ranking
+
+    if kind == "numeric":
+        return descriptives.descriptives_table(ctx, target)
+    if kind in ("categorical", "likert") and ctx.spec.by:
+        return crosstab.crosstab_table(ctx, target)
+    if kind == "likert":
+        return likert.likert_table(ctx, target)
+    if kind == "categorical":
+        return frequency.frequency_table(ctx, target)
+    if kind == "battery":
+        return likert.battery_table(ctx, target)
+    if kind == "ranking":
+        return ranking.ranking_table(ctx, target)
+    return multiselect.multiselect_table(ctx, target)

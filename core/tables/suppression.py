@@ -1,0 +1,238 @@
+"""Small-cell protection: hide counts that could identify people, and enough others besides.
+
+Primary suppression hides every count from 1 up to the threshold minus one (zeros stay
+visible, as in the US CMS cell-size policy, METHODS.md section 11). Complementary suppression
+then hides further cells so that no hidden count can be worked out by subtracting the shown
+cells from a shown row or column total.
+
+How the complementary step decides: treat every line of the table whose total is published
+(a row with its row total, a column with its column total) as an equation. Hidden cells are
+the unknowns; each hidden cell lies on at most two lines. Draw a graph with one node per
+line and one edge per hidden cell (a line without a published total is a free end, merged
+into a single node ``FREE``). A hidden cell's value is fixed by the equations exactly when its
+edge is a bridge of that graph (removing it disconnects its two lines); when the edge lies on
+a cycle, adding +e and -e alternately around the cycle keeps every line total, so the cell
+can take a range of values. For each bridge in turn, the loop below hides the cheapest path
+of shown cells (smallest total count, found by Dijkstra's algorithm) that closes a cycle
+through it, until no bridge is left. The test suite checks the result with a
+linear programme (the interval of every hidden cell has width > 0).
+"""
+
+from __future__ import annotations
+
+import heapq
+from collections import defaultdict
+from dataclasses import dataclass
+
+import numpy as np
+
+FREE = ("free", -1)
+
+
+@dataclass(frozen=True)
+class Suppression:
+    """Which cells of a table to hide. Arrays follow the table's shape (rows x columns)."""
+
+    cells: np.ndarray  # bool, r x c
+    row_totals: np.ndarray  # bool, r
+    col_totals: np.ndarray  # bool, c
+    grand: bool
+    primary: int
+    secondary: int
+    threshold: int
+
+    @property
+    def any(self) -> bool:
+        return bool(self.primary or self.secondary)
+
+
+def no_suppression(shape: tuple[int, int], threshold: int = 0) -> Suppression:
+    r, c = shape
+    return Suppression(
+        np.zeros((r, c), dtype=bool),
+        np.zeros(r, dtype=bool),
+        np.zeros(c, dtype=bool),
+        False,
+        0,
+        0,
+        threshold,
+    )
+
+
+def suppress(
+    counts: np.ndarray,
+    threshold: int,
+    *,
+    row_totals: bool = True,
+    col_totals: bool = True,
+    protect_totals: bool = True,
+) -> Suppression:
+    """Decide which counts to hide in a table of counts with (optionally) its totals.
+
+    Parameters
+    ----------
+    counts
+        The interior counts, rows x columns (a one-way table is one column).
+    threshold
+        Counts from 1 to ``threshold - 1`` are hidden; 0 or 1 turns suppression off.
+    row_totals, col_totals
+        Whether the table shows a total for each row / each column (and so publishes that
+        line's equation). With both, the grand total is shown too.
+    protect_totals
+        Whether small totals are hidden too (a group of three people is itself a small
+        count). When False, totals are always shown and only interior cells are hidden.
+
+    Returns
+    -------
+    Suppression
+        Masks for the interior, the row totals, the column totals and the grand total.
+    """
+    counts = np.asarray(counts, dtype=float)
+    if counts.ndim == 1:
+        counts = counts[:, None]
+    r, c = counts.shape
+    if threshold <= 1 or counts.size == 0:
+        return no_suppression((r, c), threshold)
+    ext = np.zeros((r + 1, c + 1))
+    ext[:r, :c] = counts
+    ext[:r, c] = counts.sum(axis=1)
+    ext[r, :c] = counts.sum(axis=0)
+    ext[r, c] = counts.sum()
+    interior = np.zeros((r + 1, c + 1), dtype=bool)
+    interior[:r, :c] = True
+    exists = np.zeros((r + 1, c + 1), dtype=bool)
+    exists[:r, :c] = True
+    if row_totals:
+        exists[:r, c] = True
+    if col_totals:
+        exists[r, :c] = True
+    if row_totals and col_totals:
+        exists[r, c] = True
+
+    def row_node(i: int) -> tuple[str, int]:
+        # A row line is an equation only if its total is shown.
+        constrained = (i < r and row_totals) or (i == r and row_totals and col_totals)
+        return ("row", i) if constrained else FREE
+
+    def col_node(j: int) -> tuple[str, int]:
+        constrained = (j < c and col_totals) or (j == c and row_totals and col_totals)
+        return ("col", j) if constrained else FREE
+
+    hideable = exists if protect_totals else exists & interior
+    hidden = hideable & (ext > 0) & (ext < threshold)
+    primary = int(hidden.sum())
+    if primary == 0:
+        return no_suppression((r, c), threshold)
+    for _ in range(exists.size):  # each pass hides one more cell, so this always ends
+        bridge = _find_bridge(hidden, row_node, col_node)
+        if bridge is None:
+            break
+        path = _cheapest_path(bridge, hidden, hideable, ext, interior, row_node, col_node)
+        if not path:
+            # No single cell closes a cycle: hide every shown cell of both lines (safe).
+            i, j = bridge
+            hidden[i, :] |= hideable[i, :]
+            hidden[:, j] |= hideable[:, j]
+        else:
+            for cell in path:
+                hidden[cell] = True
+    secondary = int(hidden.sum()) - primary
+    return Suppression(
+        cells=hidden[:r, :c].copy(),
+        row_totals=hidden[:r, c].copy() if row_totals else np.zeros(r, dtype=bool),
+        col_totals=hidden[r, :c].copy() if col_totals else np.zeros(c, dtype=bool),
+        grand=bool(hidden[r, c]) if row_totals and col_totals else False,
+        primary=primary,
+        secondary=secondary,
+        threshold=threshold,
+    )
+
+
+def _edges(hidden: np.ndarray, row_node, col_node) -> list[tuple[tuple[int, int], tuple, tuple]]:
+    return [((int(i), int(j)), row_node(int(i)), col_node(int(j))) for i, j in np.argwhere(hidden)]
+
+
+def _component(start: tuple, adj: dict, skip: tuple[int, int]) -> set:
+    seen = {start}
+    stack = [start]
+    while stack:
+        node = stack.pop()
+        for cell, other in adj[node]:
+            if cell == skip or other in seen:
+                continue
+            seen.add(other)
+            stack.append(other)
+    return seen
+
+
+def _adjacency(edges) -> dict:
+    adj: dict = defaultdict(list)
+    for cell, a, b in edges:
+        adj[a].append((cell, b))
+        adj[b].append((cell, a))
+    return adj
+
+
+def _find_bridge(hidden: np.ndarray, row_node, col_node) -> tuple[int, int] | None:
+    """A hidden cell whose value the published totals determine, or None."""
+    edges = _edges(hidden, row_node, col_node)
+    adj = _adjacency(edges)
+    for cell, a, b in edges:
+        if a == b:  # both lines free: nothing constrains this cell
+            continue
+        if b not in _component(a, adj, cell):
+            return cell
+    return None
+
+
+def _cheapest_path(bridge, hidden, hideable, ext, interior, row_node, col_node):
+    """Shown cells to hide so that ``bridge`` lies on a cycle, losing as little as possible.
+
+    Dijkstra from one end of the bridge to the other over all hideable cells except the
+    bridge itself: hidden cells cost nothing, shown cells cost their value (totals a little
+    more, zeros a lot, since a hidden zero can only move upwards).
+    """
+    i, j = bridge
+    start, goal = row_node(i), col_node(j)
+    adj: dict = defaultdict(list)
+    big = float(ext.max()) + 1.0
+    for ci, cj in np.argwhere(hideable):
+        cell = (int(ci), int(cj))
+        if cell == bridge:
+            continue
+        if hidden[cell]:
+            cost = 0.0
+        else:
+            value = float(ext[cell])
+            cost = value if value > 0 else 1000.0 * big
+            if not interior[cell]:
+                cost += big  # keep totals visible when an interior cell will do
+        a, b = row_node(cell[0]), col_node(cell[1])
+        adj[a].append((b, cell, cost))
+        adj[b].append((a, cell, cost))
+    dist = {start: 0.0}
+    back: dict = {}
+    heap = [(0.0, 0, start)]
+    tick = 1
+    while heap:
+        d, _, node = heapq.heappop(heap)
+        if node == goal:
+            break
+        if d > dist.get(node, float("inf")):
+            continue
+        for other, cell, cost in adj[node]:
+            nd = d + cost
+            if nd < dist.get(other, float("inf")):
+                dist[other] = nd
+                back[other] = (node, cell)
+                heapq.heappush(heap, (nd, tick, other))
+                tick += 1
+    if goal not in back:
+        return None
+    cells = []
+    node = goal
+    while node != start:
+        node, cell = back[node]
+        if not hidden[cell]:
+            cells.append(cell)
+    return cells
