@@ -2,7 +2,9 @@
 
 A value is flagged when it is far above the variable's typical answers (beyond Q3 + 3 IQR,
 Tukey's "far out", and above the 95th percentile by at least a factor 3) while its tenth or
-hundredth lies among the usual answers (5th to 95th percentile). For whole-number variables
+hundredth lies among the usual answers (from the 5th percentile up to Tukey's inner fence
+Q3 + 1.5 IQR); when both the tenth and the hundredth do, the one nearer the median (as a
+ratio) is suggested. For whole-number variables
 the value must end in the dropped zero(s). The thresholds are a rule of thumb of our own
 (common practice, no source); the suggestion is the value divided by 10 or 100.
 """
@@ -25,23 +27,25 @@ def candidates(x: np.ndarray, method: str = "linear") -> dict[int, float]:
     answered = data[~np.isnan(data)]
     if len(answered) == 0:
         return {}
-    p5, q1, q3, p95 = (
-        float(q) for q in np.quantile(answered, [0.05, 0.25, 0.75, 0.95], method=method)
+    p5, q1, median, q3, p95 = (
+        float(q) for q in np.quantile(answered, [0.05, 0.25, 0.5, 0.75, 0.95], method=method)
     )
     whole = bool(np.all(answered == np.round(answered)))
     floor = max(q3 + 3 * (q3 - q1), 3 * p95)
+    top = q3 + 1.5 * (q3 - q1)
+    centre = median if median > 0 else max(q3, 1.0)
     out: dict[int, float] = {}
     with np.errstate(invalid="ignore"):
         high = np.flatnonzero(data > floor)
     for i in high:
         value = float(data[i])
-        for factor in FACTORS:
-            smaller = value / factor
-            if whole and value % factor != 0:
-                continue
-            if p5 <= smaller <= p95 and smaller > 0:
-                out[int(i)] = smaller
-                break
+        fits = [
+            value / f
+            for f in FACTORS
+            if not (whole and value % f != 0) and value / f > 0 and p5 <= value / f <= top
+        ]
+        if fits:
+            out[int(i)] = min(fits, key=lambda v: abs(np.log(v / centre)))
     return out
 
 
