@@ -263,3 +263,36 @@ def _mark_skipped_option_groups(
             v[skip] = np.nan
             values[c] = pd.Series(v, index=values[c].index)
             reasons[c] = _reasons(r, values[c].index)
+
+
+def derive_variables(
+    codebook: Codebook, values: pd.DataFrame, reasons: pd.DataFrame
+) -> tuple[pd.DataFrame, pd.DataFrame]:
+    """Add variables grouped from a numeric source (``derived_from`` + ``cut_points``).
+
+    Computed from the source's current values (after cleaning), so a corrected age moves
+    into the right age group. A value v falls in group i when cut_points[i-1] <= v <
+    cut_points[i]; a missing source value keeps its reason. Returns new frames; the inputs are
+    not changed.
+    """
+    derived = [
+        v for v in codebook
+        if v.derived_from and v.cut_points and v.derived_from in values.columns
+        and len(v.levels) == len(v.cut_points) + 1
+    ]
+    if not derived:
+        return values, reasons
+    values = values.copy(deep=False)
+    reasons = reasons.copy(deep=False)
+    for var in derived:
+        source = values[var.derived_from]
+        x = pd.to_numeric(source, errors="coerce").to_numpy(dtype=float, na_value=np.nan)
+        codes = np.searchsorted(np.asarray(var.cut_points, dtype=float), x, side="right")
+        codes = np.where(np.isnan(x), -1, codes)
+        values[var.name] = pd.Series(
+            pd.Categorical.from_codes(codes, categories=list(var.levels), ordered=True),
+            index=values.index,
+        )
+        reasons[var.name] = reasons[var.derived_from].copy()
+    return values, reasons
+

@@ -13,7 +13,13 @@ import numpy as np
 import pandas as pd
 
 from core.codebook import Codebook, Variable
-from core.decoding import REASON_CATEGORIES, cell_texts, decode_table, decode_variable
+from core.decoding import (
+    REASON_CATEGORIES,
+    cell_texts,
+    decode_table,
+    decode_variable,
+    derive_variables,
+)
 from core.errors import PlaincountError
 from core.kinds import Kind, MissingReason
 from core.ledger import Action, LedgerEntry, entries_for, surviving
@@ -155,6 +161,8 @@ def apply_ledger(
             for row in rows:
                 _apply_cell(d, var, values, reasons, row)
                 edits.setdefault((row, name), []).append(d)
+    # Variables grouped from a numeric one follow its cleaned values.
+    values, reasons = derive_variables(codebook, values, reasons)
     return WorkingData(
         wave_id=wave_id,
         codebook=codebook,
