@@ -14,6 +14,7 @@ COMMAND_MODULES = [
     "core.cli.missing_commands",
     "core.cli.demo_commands",
     "core.cli.export_commands",
+    "core.cli.table_commands",
 ]
 
 
