@@ -10,6 +10,7 @@ from core.errors import PlaincountError
 
 # Each module defines register(subparsers); a command's handler takes args and returns 0/1/2.
 COMMAND_MODULES = [
+    "core.cli.cleaning_commands",
     "core.cli.project_commands",
     "core.cli.missing_commands",
     "core.cli.demo_commands",
