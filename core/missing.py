@@ -789,7 +789,7 @@ def _pct(x: float) -> str:
 
 def _listing(parts: list[str], limit: int = 8) -> str:
     if len(parts) > limit:
-        parts = parts[:limit] + [f"and {len(parts) - limit} more"]
+        return ", ".join(parts[:limit]) + f" and {len(parts) - limit} more"
     if len(parts) <= 1:
         return "".join(parts)
     return ", ".join(parts[:-1]) + " and " + parts[-1]

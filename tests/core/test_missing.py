@@ -413,3 +413,61 @@ def test_cli_text_and_errors(tmp_path, capsys):
     assert "rating scales" in capsys.readouterr().err
     assert cli_main(["missing", path, "--wave", "1999"]) == 2
     assert cli_main(["missing", path, "--threshold", "150"]) == 2
+
+
+# --------------------------------------------------------------------------- demo data
+@pytest.fixture(scope="module")
+def demo_2026(tmp_path_factory):
+    """Demo wave 2026 with the codebook the manifest expects (manifest = the answer key)."""
+    from core import demo
+
+    data = demo.generate()
+    book = Codebook.from_json(data.manifest["expected_codebook"])
+    book, _ = book.applied(data.manifest["codebook_settings"])
+    project = Project.create(tmp_path_factory.mktemp("demo") / "demo.plaincount")
+    inst = project.add_instrument("Participant survey", book)
+    wave = project.add_wave(inst.id, "2026", "demo.xlsx", b"demo", data.waves["2026"])
+    yield working_data(project, wave.id), data.manifest
+    project.close()
+
+
+def test_demo_income_by_gender_tops_the_scan(demo_2026):
+    working, manifest = demo_2026
+    planted = manifest["patterns"]["income_missing_by_gender"]
+    scan = pattern_scan(working)
+    top = scan.iloc[0]
+    assert (top["variable"], top["by"]) == (planted["variable"], planted["by"])
+    assert top["p_adjusted"] < 0.001 and top["cochran_ok"]
+    # The manifest measured the same shares on the raw file (blank or "Prefer not to say").
+    expected = planted["waves"]["2026"]["pct_missing_by_gender"]
+    for group in ("Woman", "Man"):
+        assert top["pct_missing_by_group"][group] == pytest.approx(expected[group], abs=0.05)
+    items = item_summary(working).set_index("variable")
+    income = items.loc["household_income_band"]
+    assert income["pct_missing"] == pytest.approx(planted["waves"]["2026"]["pct_missing"], abs=0.05)
+    assert income["above_threshold"]
+
+
+def test_demo_late_skips_rise(demo_2026):
+    working, manifest = demo_2026
+    trend = position_trend(working)
+    assert trend.rising
+    # Skipped shares per item agree with the manifest's own count of blank cells.
+    measured = manifest["patterns"]["survey_fatigue"]["waves"]["2026"]["pct_skipped_by_item"]
+    items = item_summary(working).set_index("variable")
+    for name, pct in measured.items():
+        if name in items.index:
+            assert 100 * items.loc[name, "skipped"] / items.loc[name, "n"] == pytest.approx(
+                pct, abs=0.05
+            ), name
+    # Break-offs happen in the last third (from the ranking question on): a respondent who
+    # stops at the ranking question has the item just before it as last answered, so no one
+    # may stop earlier than that.
+    drop = dropoff(working).table.set_index("variable")
+    start = manifest["patterns"]["survey_fatigue"]["starts_at"]
+    before = drop.loc[: drop.index[drop.index.get_loc(start) - 2], "n_stopped_here"]
+    assert before.sum() == 0
+    assert drop.loc[start:, "n_stopped_here"].iloc[:-1].sum() > 10
+    # Not applicable (still in school) is by design, not a gap.
+    emp = items.loc["employed_in_field"]
+    assert emp["not_applicable"] > 0 and emp["pct_missing_asked"] < emp["pct_missing"]
