@@ -16,6 +16,7 @@ COMMAND_MODULES = [
     "core.cli.demo_commands",
     "core.cli.export_commands",
     "core.cli.table_commands",
+    "core.cli.sampling_commands",
 ]
 
 
