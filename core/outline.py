@@ -10,12 +10,14 @@ from __future__ import annotations
 
 import json
 import sqlite3
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any
 
 from core.charts import chart_types
 from core.errors import PlaincountError
+from core.export.comments import comments_result, is_comment_variable
 from core.project import UNDO_HANDLERS, Changes, Project, now
+from core.tables.build import compute_table
 from core.tables.result import TableResult
 from core.tables.spec import TableSpec
 
@@ -142,18 +144,20 @@ def remove(project: Project, item_id: int) -> Changes:
 
 
 def compute(project: Project, spec: TableSpec) -> TableResult:
-    """The table of a kept specification, computed from today's working data."""
-    from core.tables.build import compute_table
+    """The table of a kept specification, computed from today's working data.
 
+    Open-ended questions give a listing of comments (exports leave it out unless comments
+    are included explicitly); everything else is a table.
+    """
+    if is_comment_variable(project, spec):
+        return comments_result(project, spec)
     return compute_table(project, spec)
 
 
 def result_for(project: Project, kept: OutlineItem) -> TableResult:
     """The kept result recomputed, carrying the outline's title and finding sentence."""
-    result = compute(project, kept.spec)
-    result.title = kept.title
-    result.finding = kept.finding
-    return result
+    # A copy: computed tables are cached and shared with the views.
+    return replace(compute(project, kept.spec), title=kept.title, finding=kept.finding)
 
 
 # ----------------------------------------------------------------- internals

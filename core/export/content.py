@@ -16,6 +16,7 @@ from typing import Any
 
 from core.codebook import Codebook, Variable
 from core.decoding import INVALID
+from core.disclosure import treatment_appendix
 from core.kinds import REASON_LABELS, Kind, MissingReason
 from core.ledger import ACTION_LABELS, Action, entries_for, surviving
 from core.missing import REASONS, item_summary, summary_paragraphs
@@ -267,8 +268,6 @@ def suppression_sentence(project: Project, entries: list[Entry]) -> str:
 
 def appendix_blocks(project: Project, entries: list[Entry]) -> list[Block]:
     """The appendix "How the data were treated", one set of sections per wave reported."""
-    from core.disclosure import treatment_appendix
-
     blocks: list[Block] = [Heading(1, "How the data were treated")]
     waves = report_waves(project, entries)
     several = len(waves) > 1
@@ -286,7 +285,8 @@ def appendix_blocks(project: Project, entries: list[Entry]) -> list[Block]:
             )
         )
 
-        # Every ledger decision, summarised and listed (written by the cleaning module).
+        # How the data were checked, every ledger decision summarised and listed, exclusions,
+        # and the consistency rules and recodes (written by the cleaning module).
         for section in treatment_appendix(project, wave.id):
             blocks.append(Heading(2, printable(section["heading"]) + suffix))
             blocks.extend(Paragraph(printable(p)) for p in section.get("paragraphs", []))
@@ -309,22 +309,6 @@ def appendix_blocks(project: Project, entries: list[Entry]) -> list[Block]:
         # Suppression rule.
         blocks.append(Heading(2, "Small-cell protection" + suffix))
         blocks.append(Paragraph(suppression_sentence(project, wave_entries)))
-
-        # Cleaning rules (consistency rules of the instrument).
-        rules = project.query(
-            "SELECT text, active, created FROM rules WHERE instrument_id = ? ORDER BY id",
-            (inst.id,),
-        )
-        blocks.append(Heading(2, "Cleaning rules" + suffix))
-        if rules:
-            blocks.append(
-                plain_grid(
-                    ["Rule", "In use", "Added"],
-                    [[r["text"], "yes" if r["active"] else "no", r["created"][:10]] for r in rules],
-                )
-            )
-        else:
-            blocks.append(Paragraph("No consistency rules were defined for this instrument."))
 
         # Response rate, when the evaluator entered the dispositions for this wave.
         rate = _response_rate(project, wave)

@@ -22,6 +22,7 @@ from core import outline
 from core.codebook import Codebook
 from core.errors import PlaincountError
 from core.export.clipboard import chart_images
+from core.export.comments import COMMENT_CAUTION
 from core.export.content import (
     Block,
     Entry,
@@ -40,16 +41,12 @@ from core.export.workbook import write_workbook
 from core.kinds import Kind
 from core.progress import Progress, ensure_progress
 from core.project import Project
+from core.tables.build import resolve_wave
 
 FORMATS = ("xlsx", "docx", "html", "png", "svg", "csv")
 REPORT_DOCX = "report.docx"
 REPORT_HTML = "report.html"
 WORKBOOK = "tables.xlsx"
-
-COMMENT_CAUTION = (
-    "Open-ended comments are quoted in this report. Comments can identify the people who "
-    "wrote them (a job, a place, an event); check each one before sharing."
-)
 
 
 class ExportFiles(list[Path]):
@@ -129,7 +126,7 @@ def export_outline(
             finding=item.finding,
             result=result,
             chart_type=item.chart,
-            wave_id=project.find_wave(result.wave or item.spec.wave, instrument).id,
+            wave_id=resolve_wave(project, item.spec).id,
             variables=variables,
         )
         if item.chart and draw:
