@@ -6,6 +6,7 @@ import sys
 import traceback
 from types import TracebackType
 
+from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QApplication, QMessageBox, QWidget
 
 from core.errors import PlaincountError
@@ -44,7 +45,12 @@ def show_error(parent: QWidget | None, exc: BaseException, title: str = "Plainco
         # QMessageBox keeps detailed text behind a "Show Details..." button.
         box.setDetailedText(details)
     box.setStandardButtons(QMessageBox.StandardButton.Ok)
-    box.exec()
+    if parent is None:
+        box.exec()
+        return
+    # Window-modal and non-blocking: the event loop (and any running work) carries on.
+    box.setAttribute(Qt.WidgetAttribute.WA_DeleteOnClose)
+    box.open()
 
 
 def _excepthook(

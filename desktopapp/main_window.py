@@ -258,7 +258,7 @@ class MainWindow(QMainWindow):
             self.open_project(path)
             return
 
-        def build(_progress: Any) -> Path:
+        def build(progress: Any) -> Path:
             from core.errors import PlaincountError
 
             try:
@@ -268,7 +268,7 @@ class MainWindow(QMainWindow):
                     "The demo project is not part of this installation of Plaincount."
                 ) from None
             folder.mkdir(parents=True, exist_ok=True)
-            return Path(build_demo_project(folder))
+            return Path(build_demo_project(folder, progress=progress))
 
         self.runner.run(
             build,

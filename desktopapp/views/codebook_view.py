@@ -70,7 +70,7 @@ def rename_level(var: Variable, old: str, new: str) -> Variable:
         raise CodebookError(f"{var.name} already has an answer called “{new}”.")
     levels = tuple(new if level == old else level for level in var.levels)
     labels = {raw: (new if label == old else label) for raw, label in var.value_labels.items()}
-    if old not in labels:
+    if old not in labels and old not in var.value_labels.values():
         labels[old] = new  # raw cells reading the old label now mean the new one
     labels = {raw: label for raw, label in labels.items() if raw != label}
     return replace(var, levels=levels, value_labels=labels)

@@ -30,13 +30,49 @@ def small_frame() -> pd.DataFrame:
     return pd.DataFrame(
         {
             "resp_id": [f"R{i:02d}" for i in range(1, 13)],
-            "track": ["HVAC", "Welding", "HVAC", "Solar", "HVAC", "Welding",
-                      "HVAC", "Solar", "HVAC", "Welding", None, "HVAC"],
+            "track": [
+                "HVAC",
+                "Welding",
+                "HVAC",
+                "Solar",
+                "HVAC",
+                "Welding",
+                "HVAC",
+                "Solar",
+                "HVAC",
+                "Welding",
+                None,
+                "HVAC",
+            ],
             "age": [23, 31, 45, -99, 27, 38, 52, 19, 33, 41, 29, 7],
-            "agree_1": ["Agree", "Strongly agree", "Agree", "Disagree", "Neither", "Agree",
-                        "Strongly agree", "Agree", None, "Disagree", "Agree", "Agree"],
-            "agree_2": ["Disagree", "Agree", "Neither", "Agree", "Agree", "Strongly agree",
-                        "Agree", "Agree", "Agree", "Agree", None, "Neither"],
+            "agree_1": [
+                "Agree",
+                "Strongly agree",
+                "Agree",
+                "Disagree",
+                "Neither",
+                "Agree",
+                "Strongly agree",
+                "Agree",
+                None,
+                "Disagree",
+                "Agree",
+                "Agree",
+            ],
+            "agree_2": [
+                "Disagree",
+                "Agree",
+                "Neither",
+                "Agree",
+                "Agree",
+                "Strongly agree",
+                "Agree",
+                "Agree",
+                "Agree",
+                "Agree",
+                None,
+                "Neither",
+            ],
             "email": [f"person{i}@example.org" for i in range(1, 13)],
         }
     )
@@ -46,14 +82,39 @@ def small_codebook() -> Codebook:
     return Codebook(
         [
             Variable("resp_id", "Respondent", Kind.IDENTIFIER, position=0),
-            Variable("track", "Which track are you in?", Kind.CATEGORICAL,
-                     levels=("HVAC", "Solar", "Welding"), position=1),
-            Variable("age", "How old are you?", Kind.NUMERIC,
-                     missing_codes={"-99": MissingReason.DECLINED}, range=(18, 64), position=2),
-            Variable("agree_1", "The course was well organised", Kind.LIKERT, levels=AGREE,
-                     group="agree", keying="positive", position=3),
-            Variable("agree_2", "The workload felt unmanageable", Kind.LIKERT, levels=AGREE,
-                     group="agree", keying="negative", position=4),
+            Variable(
+                "track",
+                "Which track are you in?",
+                Kind.CATEGORICAL,
+                levels=("HVAC", "Solar", "Welding"),
+                position=1,
+            ),
+            Variable(
+                "age",
+                "How old are you?",
+                Kind.NUMERIC,
+                missing_codes={"-99": MissingReason.DECLINED},
+                range=(18, 64),
+                position=2,
+            ),
+            Variable(
+                "agree_1",
+                "The course was well organised",
+                Kind.LIKERT,
+                levels=AGREE,
+                group="agree",
+                keying="positive",
+                position=3,
+            ),
+            Variable(
+                "agree_2",
+                "The workload felt unmanageable",
+                Kind.LIKERT,
+                levels=AGREE,
+                group="agree",
+                keying="negative",
+                position=4,
+            ),
             Variable("email", "Your e-mail address", Kind.TEXT, personal=True, position=5),
         ]
     )
@@ -63,9 +124,13 @@ def build_small_project(path: Path) -> Path:
     frame = small_frame()
     with Project.create(path, name="Small test project") as project:
         inst = project.add_instrument("Participant survey", small_codebook())
-        project.add_wave(inst.id, "2026", "survey_2026.csv", frame.to_csv(index=False).encode(),
-                         frame.astype(object).where(frame.notna(), None).astype(str)
-                         .where(frame.notna(), None))
+        project.add_wave(
+            inst.id,
+            "2026",
+            "survey_2026.csv",
+            frame.to_csv(index=False).encode(),
+            frame.astype(object).where(frame.notna(), None).astype(str).where(frame.notna(), None),
+        )
     return path
 
 
