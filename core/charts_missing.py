@@ -120,6 +120,8 @@ def draw_missing_matrix(
         raise PlaincountError("This wave has no question items to draw.")
     codes = reason_codes(working, items)
     n, k = codes.shape
+    if n == 0:
+        raise PlaincountError("No respondents are left to draw in this wave.")
     ordered = codes[sort_rows(codes)]
     shown, per_line = condense_rows(ordered, max_rows)
     figure.clear()

@@ -200,7 +200,9 @@ def respondent_summary(
     table = pd.DataFrame(
         {
             "row": np.asarray(rows, dtype=int),
-            "respondent": [working.respondent_label(int(r)) for r in rows],
+            "respondent": working.respondent_ids.astype(str).to_numpy()[
+                np.asarray(rows, dtype=int)
+            ],
             "n_asked": n_asked,
             "n_answered": n_answered,
             "n_missing": n_asked - n_answered,
@@ -540,7 +542,10 @@ def missing_by_group(
             if reason != MissingReason.NOT_APPLICABLE.value:
                 row[reason] = int(np.count_nonzero(in_group & (codes == 1 + j)))
         rows.append(row)
-    table = pd.DataFrame(rows)
+    reason_cols = [r for r in REASONS if r != MissingReason.NOT_APPLICABLE.value]
+    table = pd.DataFrame(
+        rows, columns=["group", "n", "n_answered", "n_missing", "pct_missing", *reason_cols]
+    )
     present = n_group > 0
     labels = [lv for lv, p in zip(gvar.levels, present) if p]
     t_group, t_miss, t_labels, left_out = _test_table(
@@ -800,6 +805,11 @@ def summary_paragraphs(working: WorkingData, threshold: float = DEFAULT_THRESHOL
     items = item_summary(working, threshold)
     ov = overview(working)
     paras: list[str] = []
+    if ov.n_respondents == 0:
+        return [
+            "No respondents are left to analyse in this wave"
+            + (f" ({ov.n_excluded} excluded in cleaning)." if ov.n_excluded else ".")
+        ]
     excl = (
         f" ({ov.n_excluded} respondent(s) excluded in cleaning are left out)"
         if ov.n_excluded

@@ -471,3 +471,25 @@ def test_demo_late_skips_rise(demo_2026):
     # Not applicable (still in school) is by design, not a gap.
     emp = items.loc["employed_in_field"]
     assert emp["not_applicable"] > 0 and emp["pct_missing_asked"] < emp["pct_missing"]
+
+
+def test_everyone_excluded_gives_plain_answers(tmp_path):
+    project = _three_group_project(tmp_path, (1, 1, 0), (0, 0, 1))
+    try:
+        wave_id = project.find_wave("1").id
+        record(project, wave_id, [Decision(Action.EXCLUDE, "test", row=r) for r in range(3)])
+        wd = working_data(project, wave_id)
+        assert item_summary(wd)["n"].tolist() == [0, 0]
+        assert dropoff(wd).n_respondents == 0
+        assert pattern_scan(wd).empty
+        res = missing_by_group(wd, "x", "g")
+        assert res.p_value is None and res.pct_missing_by_group == {}
+        assert summary_paragraphs(wd) == [
+            "No respondents are left to analyse in this wave (3 excluded in cleaning)."
+        ]
+        from core.charts_missing import make_missing_figure
+
+        with pytest.raises(PlaincountError, match="No respondents"):
+            make_missing_figure(wd, "matrix")
+    finally:
+        project.close()
