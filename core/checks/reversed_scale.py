@@ -70,8 +70,8 @@ def check(ctx: Context) -> list[Flag]:
         )
         if negative.any() and (~negative).any():
             with np.errstate(invalid="ignore"):
-                pos_mean = np.nanmean(np.where(negative, np.nan, p), axis=1)
-                neg_mean = np.nanmean(np.where(negative, p, np.nan), axis=1)
+                pos_mean = _row_mean(np.where(negative, np.nan, p))
+                neg_mean = _row_mean(np.where(negative, p, np.nan))
                 both_agree = (pos_mean >= cut) & (neg_mean >= cut)
                 both_disagree = (pos_mean <= 1 - cut) & (neg_mean <= 1 - cut)
             worded = ", ".join(v.name for v in items if v.keying == "negative")
@@ -111,7 +111,7 @@ def check(ctx: Context) -> list[Flag]:
             tones = _comment_tones(ctx, comments)
         keyed = np.where(negative, 1 - p, p)
         with np.errstate(invalid="ignore"):
-            net = np.nanmean(keyed, axis=1)
+            net = _row_mean(keyed)
         for row, (t, texts, used) in tones.items():
             if np.isnan(net[row]):
                 continue
@@ -149,6 +149,16 @@ def check(ctx: Context) -> list[Flag]:
                 )
             )
     return flags
+
+
+def _row_mean(a: np.ndarray) -> np.ndarray:
+    """Mean of each row over answered cells; NaN (no warning) when a row has none."""
+    present = ~np.isnan(a)
+    count = present.sum(axis=1)
+    total = np.where(present, a, 0.0).sum(axis=1)
+    out = np.full(len(a), np.nan)
+    np.divide(total, count, out=out, where=count > 0)
+    return out
 
 
 def _comment_tones(ctx: Context, comments: list[Variable]) -> dict:
