@@ -183,3 +183,37 @@ def test_count_completes_from_answers(tmp_path):
     assert (stricter.completes, stricter.partials, stricter.breakoffs) == (3, 1, 2)
     with pytest.raises(PlaincountError, match="thresholds"):
         count_completes(working, 0.5, 0.9)
+
+
+# ------------------------------------------------------------------ command line
+def test_cli_rates_json_matches_the_vector(capsys):
+    import json
+
+    from core.cli.main import main
+
+    args = [
+        "rates", "--completes", "5", "--partials", "3", "--refusals", "2", "--noncontacts",
+        "1", "--other", "2", "--unknown-household", "1", "--unknown-other", "1",
+        "--ineligible", "1", "--e", "0.5", "--json",
+    ]  # fmt: skip
+    assert main(args) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert list(data["rates"]) == list(EXPECTED)
+    for name, value in EXPECTED.items():
+        assert data["rates"][name]["value"] == pytest.approx(float(value), rel=1e-12)
+    assert data["e_source"] == "entered"
+
+
+def test_cli_rates_text_and_errors(capsys):
+    from core.cli.main import main
+
+    base = ["rates", "--completes", "70", "--partials", "6", "--refusals", "10",
+            "--noncontacts", "10", "--other", "4", "--unknown-household", "0",
+            "--unknown-other", "0"]  # fmt: skip
+    assert main(base) == 0
+    out = capsys.readouterr().out
+    assert "RR2    76.0 %" in out
+    assert main([*base, "--e", "2"]) == 2
+    assert "between 0 and 1" in capsys.readouterr().err
+    assert main([*base[:2], "-3", *base[3:]]) == 2
+    assert "cannot be negative" in capsys.readouterr().err

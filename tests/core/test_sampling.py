@@ -6,7 +6,7 @@ import math
 
 import pandas as pd
 import pytest
-from hypothesis import given, settings
+from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 from statsmodels.stats.proportion import proportion_confint, samplesize_confint_proportion
 
@@ -101,6 +101,7 @@ def test_margin_of_error_inverts_sample_size(population, share, confidence, prop
     if n == population:
         assert moe.margin == 0
         return
+    assume(moe.margin < 1)  # tiny samples of tiny populations: a "margin" over 100 points
     back = sample_size(population, moe.margin, confidence, proportion)
     assert back.exact == pytest.approx(n, rel=1e-9)
 
@@ -225,3 +226,27 @@ def test_wave_design_marked_as_sample(project):
     assert "Wilson" in note and "1,200" in note and "finite population correction" in note
     with pytest.raises(PlaincountError, match="cannot be smaller"):
         set_wave_design(proj, wave_id, whole_population=False, population_size=2)
+
+
+# ------------------------------------------------------------------ command line
+def test_cli_sample_size_json(capsys):
+    import json
+
+    from core.cli.main import main
+
+    assert main(["sample-size", "--population", "9000", "--responses", "300", "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["sample_size"]["nearest"] == 368  # Krejcie & Morgan (1970) worked example
+    assert data["sample_size"]["recommended"] == 369
+    expected = z_value(0.95) * math.sqrt(0.25 / 300) * math.sqrt(8700 / 8999)
+    assert data["margin_of_error"]["margin"] == pytest.approx(expected, rel=1e-12)
+
+
+def test_cli_sample_size_text_and_error(capsys):
+    from core.cli.main import main
+
+    assert main(["sample-size", "--population", "15"]) == 0
+    out = capsys.readouterr().out
+    assert "aim for 15 completed responses" in out and "list 14" in out
+    assert main(["sample-size", "--population", "100", "--margin", "5"]) == 2
+    assert "write 5 % as 0.05" in capsys.readouterr().err
