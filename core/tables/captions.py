@@ -124,8 +124,8 @@ def suppression_note(threshold: int, primary: int, secondary: int) -> str:
     )
     if secondary:
         text += (
-            f"; {secondary} further cell{'s are' if secondary != 1 else ' is'} hidden so the "
-            "small ones cannot be worked out from the totals"
+            f"; {secondary} further cell{'s are' if secondary != 1 else ' is'} hidden (shown "
+            'as "–") so the small ones cannot be worked out from the totals'
         )
     return text + ". Percentages of hidden counts are hidden too."
 

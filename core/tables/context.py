@@ -101,10 +101,30 @@ def breakdown(ctx: Context, names: tuple[str, ...]) -> Breakdown | None:
     return Breakdown(codes, labels, names, int((codes < 0).sum()))
 
 
-def count_cell(n: int | None, hidden: bool, ctx: Context) -> Cell:
+COMPLEMENT_TEXT = "–"
+
+
+def count_cell(n: int | None, hidden: bool, ctx: Context, small: bool | None = None) -> Cell:
+    """A count; hidden small counts read "<5", cells hidden only to protect them read "–"."""
     if hidden:
-        return Cell(None, "count", suppressed=True, text=ctx.hidden_text())
+        if small is None:
+            small = n is not None and 0 < n < ctx.min_cell
+        return Cell(
+            None, "count", suppressed=True, text=ctx.hidden_text() if small else COMPLEMENT_TEXT
+        )
     return Cell(n, "count")
+
+
+def protected_groups(bases: np.ndarray, ctx: Context) -> np.ndarray:
+    """Groups whose figures must be hidden: groups smaller than the threshold, plus enough
+    others that a small group cannot be worked out as "all" minus the shown groups."""
+    from core.tables.suppression import suppress
+
+    bases = np.asarray(bases, dtype=np.int64)
+    if bases.size == 0:
+        return np.zeros(0, dtype=bool)
+    sup = suppress(bases, ctx.min_cell, row_totals=False, col_totals=True, protect_totals=False)
+    return sup.cells[:, 0]
 
 
 def pct_cell(p: float | None, hidden: bool, ctx: Context, base: int | None = None) -> Cell:

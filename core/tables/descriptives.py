@@ -21,7 +21,15 @@ from core.tables.captions import (
     missing_sentence,
     sd_note,
 )
-from core.tables.context import Context, breakdown, by_title, label_of, text_cell
+from core.tables.context import (
+    Context,
+    breakdown,
+    by_title,
+    count_cell,
+    label_of,
+    protected_groups,
+    text_cell,
+)
 from core.tables.result import Cell, TableResult, format_number
 from core.tables.suppression import suppress
 from core.treatments import INCOMPLETE, reason_counts
@@ -166,17 +174,19 @@ def descriptives_table(ctx: Context, name: str) -> TableResult:
         "missing": missing,
     }
     columns = ["Statistic"]
-    col_stats: list[tuple[dict[str, Any], bool]] = []
+    col_stats: list[tuple[dict[str, Any], bool, int]] = []
     small: list[str] = []
     if groups is not None:
         data["groups"] = groups.labels
         data["stats_by_group"] = {}
         data["histogram_by_group"] = {}
         data["group_bases"] = {}
+        ns = np.bincount(groups.codes[in_scope], minlength=groups.size)
+        hidden_groups = protected_groups(ns, ctx)
         for g, label in enumerate(groups.labels):
             xg = values[in_scope & (groups.codes == g)]
             sg = describe(xg, ctx.spec.sd)
-            hide = 0 < sg["n"] < ctx.min_cell
+            hide = bool(hidden_groups[g])
             if hide:
                 small.append(label)
                 sg = {k: (None if k != "modes" else []) for k in sg}
@@ -189,9 +199,9 @@ def descriptives_table(ctx: Context, name: str) -> TableResult:
             )
             data["box"][label] = {} if hide else box_stats(xg, sg)
             columns.append(label)
-            col_stats.append((sg, hide))
+            col_stats.append((sg, hide, int(xg.size)))
     columns.append("All")
-    col_stats.append((stats, False))
+    col_stats.append((stats, False, stats["n"]))
     rows: list[list[Cell]] = []
     roles: list[str] = []
     for key in (
@@ -212,8 +222,8 @@ def descriptives_table(ctx: Context, name: str) -> TableResult:
         if key == "missing" and groups is not None:
             continue
         row = [text_cell(STAT_LABELS[key])]
-        for st, hide in col_stats:
-            row.append(_stat_cell(key, st.get(key), hide, ctx))
+        for st, hide, n in col_stats:
+            row.append(_stat_cell(key, st.get(key), hide, ctx, n))
         rows.append(row)
         roles.append("stat")
 
@@ -237,7 +247,8 @@ def descriptives_table(ctx: Context, name: str) -> TableResult:
     notes.method.append(QUANTILE_NOTE)
     if small:
         notes.suppression.append(
-            f"Statistics for groups of fewer than {ctx.min_cell} people are hidden "
+            f"Statistics are hidden for groups of fewer than {ctx.min_cell} people, and for "
+            f"enough other groups that they cannot be worked out from the All column "
             f"({', '.join(small)}): the minimum, maximum or mean of a tiny group can identify "
             "someone."
         )
@@ -261,11 +272,9 @@ def descriptives_table(ctx: Context, name: str) -> TableResult:
     )
 
 
-def _stat_cell(key: str, value: Any, hide: bool, ctx: Context) -> Cell:
+def _stat_cell(key: str, value: Any, hide: bool, ctx: Context, n: int = 0) -> Cell:
     if key == "n":
-        if hide:
-            return Cell(None, "count", suppressed=True, text=ctx.hidden_text())
-        return Cell(value, "count")
+        return count_cell(n, hide, ctx) if hide else Cell(value, "count")
     if hide:
         return Cell(None, "number", suppressed=True, text="")
     if key == "missing":

@@ -23,6 +23,7 @@ from core.tables.context import (
     level_codes,
     pct,
     pct_cell,
+    protected_groups,
     text_cell,
 )
 from core.tables.crosstab import partial_hidden
@@ -264,6 +265,8 @@ def battery_table(ctx: Context, group: str) -> TableResult:
         data["group_bases"] = {}
         data["agree_pct_by_group"] = {g: {} for g in groups.labels}
         data["disagree_pct_by_group"] = {g: {} for g in groups.labels}
+        sizes = np.bincount(groups.codes[groups.codes >= 0], minlength=groups.size)
+        hidden_groups = protected_groups(sizes, ctx)
         for gi, g in enumerate(groups.labels):
             in_group = groups.codes == gi
             for i, name in enumerate(names):
@@ -272,11 +275,11 @@ def battery_table(ctx: Context, group: str) -> TableResult:
                 sg = suppress(
                     cg, ctx.min_cell, row_totals=False, col_totals=True, protect_totals=True
                 )
-                small = 0 < cg.sum() < ctx.min_cell
+                small = bool(hidden_groups[gi]) or 0 < cg.sum() < ctx.min_cell
                 s = summarise(levels, cg, sg.cells[:, 0])
                 data["agree_pct_by_group"][g][name] = None if small else s["agree_pct"]
                 data["disagree_pct_by_group"][g][name] = None if small else s["disagree_pct"]
-            data["group_bases"][g] = int(in_group.sum())
+            data["group_bases"][g] = None if hidden_groups[gi] else int(in_group.sum())
 
     notes = ctx.notes
     n_all = ctx.treated.n_all

@@ -24,7 +24,15 @@ from core.tables.captions import (
     suppression_note,
     unstable_note,
 )
-from core.tables.context import Context, breakdown, count_cell, pct, pct_cell, text_cell
+from core.tables.context import (
+    Context,
+    breakdown,
+    count_cell,
+    pct,
+    pct_cell,
+    protected_groups,
+    text_cell,
+)
 from core.tables.result import Cell, TableResult
 from core.tables.suppression import suppress
 
@@ -120,7 +128,7 @@ def multiselect_table(ctx: Context, name: str) -> TableResult:
             mat[gi] = sub[g == gi].sum(axis=0)
         bases = np.bincount(g, minlength=groups.size)
         sup = suppress(mat, ctx.min_cell, row_totals=True, col_totals=True)
-        small = (bases > 0) & (bases < ctx.min_cell)
+        small = protected_groups(bases, ctx)
         data["groups"] = groups.labels
         data["group_bases"] = {
             lab: None if small[gi] else int(bases[gi]) for gi, lab in enumerate(groups.labels)
@@ -139,8 +147,9 @@ def multiselect_table(ctx: Context, name: str) -> TableResult:
                 o: None if hid[j] else pct(mat[gi, j], bases[gi]) for j, o in enumerate(options)
             }
             choices = mat[gi].sum()
+            # With any count of the group hidden, its choices total would reveal the sum.
             data["pct_of_choices"][lab] = {
-                o: None if hid[j] else pct(mat[gi, j], choices) for j, o in enumerate(options)
+                o: None if hid.any() else pct(mat[gi, j], choices) for j, o in enumerate(options)
             }
             row = [text_cell(lab), count_cell(int(bases[gi]), bool(small[gi]), ctx)]
             for j, o in enumerate(options):

@@ -25,7 +25,14 @@ import numpy as np
 
 from core.errors import TableError
 from core.tables.captions import GROUP_CAUTION, base_line, group_title, suppression_note
-from core.tables.context import Context, breakdown, count_cell, text_cell
+from core.tables.context import (
+    COMPLEMENT_TEXT,
+    Context,
+    breakdown,
+    count_cell,
+    protected_groups,
+    text_cell,
+)
 from core.tables.result import Cell, TableResult
 from core.tables.suppression import suppress
 
@@ -150,10 +157,11 @@ def ranking_table(ctx: Context, group: str) -> TableResult:
         data["groups"] = groups.labels
         data["points_by_group"] = {}
         data["group_bases"] = {}
+        hidden_groups = protected_groups(np.bincount(groups.codes[use], minlength=groups.size), ctx)
         for gi, g in enumerate(groups.labels):
             sel = valid & (groups.codes == gi)
             nb = int(sel.sum())
-            small = 0 < nb < ctx.min_cell
+            small = bool(hidden_groups[gi])
             pg = borda(positions[sel], rule, ctx.spec.borda_points)
             data["points_by_group"][g] = {options[i]: None if small else _num(pg[i]) for i in order}
             data["group_bases"][g] = None if small else nb
@@ -175,7 +183,7 @@ def ranking_table(ctx: Context, group: str) -> TableResult:
                         v,
                         "number",
                         suppressed=v is None,
-                        text=ctx.hidden_text() if v is None else None,
+                        text=COMPLEMENT_TEXT if v is None else None,
                     )
                 )
         rows.append(row)

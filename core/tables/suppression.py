@@ -40,6 +40,11 @@ class Suppression:
     primary: int
     secondary: int
     threshold: int
+    # Cells known to be below the threshold (shown as "<k"), zeros of a small group included.
+    small: np.ndarray | None = None  # bool, r x c
+
+    def is_small(self, i: int, j: int) -> bool:
+        return bool(self.small is not None and self.small[i, j])
 
     @property
     def any(self) -> bool:
@@ -120,22 +125,31 @@ def suppress(
 
     hideable = exists if protect_totals else exists & interior
     hidden = hideable & (ext > 0) & (ext < threshold)
+    # In a line whose total is itself small (a group of fewer than k people) every cell is
+    # small, zeros included: hide them all, so "<k" cells and a "<k" total pin nothing down.
+    for i in np.flatnonzero(hidden[:, c]):
+        hidden[i, :] |= hideable[i, :]
+    for j in np.flatnonzero(hidden[r, :]):
+        hidden[:, j] |= hideable[:, j]
+    small_line = np.zeros_like(hidden)
+    small_line[np.flatnonzero(hidden[:, c] & hideable[:, c]), :] = True
+    small_line[:, np.flatnonzero(hidden[r, :] & hideable[r, :])] = True
     primary = int(hidden.sum())
     if primary == 0:
         return no_suppression((r, c), threshold)
-    for _ in range(exists.size):  # each pass hides one more cell, so this always ends
-        bridge = _find_bridge(hidden, row_node, col_node)
-        if bridge is None:
+    primary_mask = hidden.copy()
+    for _ in range(exists.size):  # each pass hides at least one more cell, so this ends
+        _close_bridges(hidden, hideable, ext, interior, row_node, col_node)
+        # The bridge rule treats hidden cells as free; a reader also knows that a "<k" cell
+        # lies in 1..k-1 and that other hidden cells are 0 or at least k. Check with those
+        # bounds too, and widen the pattern where they pin a cell down.
+        exposed = exposed_cells(
+            ext, exists, hidden, primary_mask, threshold, row_node, col_node, small_line
+        )
+        if not exposed:
             break
-        path = _cheapest_path(bridge, hidden, hideable, ext, interior, row_node, col_node)
-        if not path:
-            # No single cell closes a cycle: hide every shown cell of both lines (safe).
-            i, j = bridge
-            hidden[i, :] |= hideable[i, :]
-            hidden[:, j] |= hideable[:, j]
-        else:
-            for cell in path:
-                hidden[cell] = True
+        if not _extend(exposed[0], hidden, hideable, ext, interior):
+            break
     secondary = int(hidden.sum()) - primary
     return Suppression(
         cells=hidden[:r, :c].copy(),
@@ -145,7 +159,114 @@ def suppress(
         primary=primary,
         secondary=secondary,
         threshold=threshold,
+        small=(primary_mask & (small_line | (ext > 0)))[:r, :c].copy(),
     )
+
+
+def _close_bridges(hidden, hideable, ext, interior, row_node, col_node) -> None:
+    for _ in range(hidden.size):
+        bridge = _find_bridge(hidden, row_node, col_node)
+        if bridge is None:
+            return
+        path = _cheapest_path(bridge, hidden, hideable, ext, interior, row_node, col_node)
+        if not path:
+            # No path closes a cycle: hide every shown cell of both lines (safe).
+            i, j = bridge
+            hidden[i, :] |= hideable[i, :]
+            hidden[:, j] |= hideable[:, j]
+        else:
+            for cell in path:
+                hidden[cell] = True
+
+
+def _extend(cell, hidden, hideable, ext, interior) -> bool:
+    """Hide the cheapest shown non-zero cell on one of ``cell``'s lines; False if none."""
+    i, j = cell
+    best = None
+    for ci, cj in np.argwhere(hideable & ~hidden):
+        if ci != i and cj != j:
+            continue
+        key = (ext[ci, cj] <= 0, not interior[ci, cj], ext[ci, cj], int(ci), int(cj))
+        if best is None or key < best:
+            best = key
+    if best is None:
+        return False
+    hidden[best[3], best[4]] = True
+    return True
+
+
+def exposed_cells(
+    ext: np.ndarray,
+    exists: np.ndarray,
+    hidden: np.ndarray,
+    primary: np.ndarray,
+    threshold: int,
+    row_node,
+    col_node,
+    small_line: np.ndarray | None = None,
+) -> list[tuple[int, int]]:
+    """Hidden cells whose possible values, given every shown number, span less than 1.
+
+    Each hidden cell is minimised and maximised by linear programming subject to the
+    published line totals, with the bounds a reader can infer: 1..threshold-1 for a
+    small-count cell (0..threshold-1 inside a group smaller than the threshold), at least
+    ``threshold`` for other hidden cells (at least 0 for a hidden zero). A span below 1
+    means the whole-number value is known.
+    """
+    from scipy.optimize import linprog
+
+    cells = [tuple(int(v) for v in x) for x in np.argwhere(hidden)]
+    if not cells:
+        return []
+    index = {cell: k for k, cell in enumerate(cells)}
+    r, c = ext.shape[0] - 1, ext.shape[1] - 1
+    rows_a, rhs = [], []
+    lines = [("row", i) for i in range(r + 1)] + [("col", j) for j in range(c + 1)]
+    for kind, k in lines:
+        node = row_node(k) if kind == "row" else col_node(k)
+        if node == FREE:
+            continue
+        if kind == "row":
+            members = [((k, j), 1.0) for j in range(c)] + [((k, c), -1.0)]
+        else:
+            members = [((i, k), 1.0) for i in range(r)] + [((r, k), -1.0)]
+        coeffs = np.zeros(len(cells))
+        known = 0.0
+        for cell, sign in members:
+            if not exists[cell]:
+                continue
+            if cell in index:
+                coeffs[index[cell]] += sign
+            else:
+                known += sign * ext[cell]
+        if coeffs.any():
+            rows_a.append(coeffs)
+            rhs.append(-known)
+    bounds = []
+    for cell in cells:
+        if primary[cell] and small_line is not None and small_line[cell]:
+            bounds.append((0.0, threshold - 1.0))
+        elif primary[cell]:
+            bounds.append((1.0, threshold - 1.0))
+        elif ext[cell] >= threshold:
+            bounds.append((float(threshold), None))
+        else:
+            bounds.append((0.0, None))
+    a_eq = np.array(rows_a) if rows_a else None
+    b_eq = np.array(rhs) if rows_a else None
+    exposed = []
+    for k, cell in enumerate(cells):
+        cost = np.zeros(len(cells))
+        cost[k] = 1.0
+        lo = linprog(cost, A_eq=a_eq, b_eq=b_eq, bounds=bounds, method="highs")
+        hi = linprog(-cost, A_eq=a_eq, b_eq=b_eq, bounds=bounds, method="highs")
+        if lo.status == 3 or hi.status == 3:  # unbounded: certainly not pinned down
+            continue
+        if lo.status != 0 or hi.status != 0:
+            continue
+        if (-hi.fun) - lo.fun < 1.0 - 1e-9:
+            exposed.append(cell)
+    return exposed
 
 
 def _edges(hidden: np.ndarray, row_node, col_node) -> list[tuple[tuple[int, int], tuple, tuple]]:
