@@ -70,9 +70,25 @@ def main(argv: Sequence[str] | None = None) -> int:
     app.setWindowIcon(app_icon())
     install_excepthook()
     window = build_window(args)
+    opener = _FileOpenFilter(window)
+    app.installEventFilter(opener)
     code = app.exec()
     del window
     return int(code)
+
+
+def _FileOpenFilter(window: MainWindow):  # noqa: ANN202, N802 - builds a QObject lazily
+    """macOS hands a double-clicked document to the running app as a FileOpen event."""
+    from PySide6.QtCore import QEvent, QObject
+
+    class FileOpenFilter(QObject):
+        def eventFilter(self, _obj: QObject, event: QEvent) -> bool:  # noqa: N802
+            if event.type() == QEvent.Type.FileOpen:
+                window.open_project(event.file())
+                return True
+            return False
+
+    return FileOpenFilter(window)
 
 
 if __name__ == "__main__":
