@@ -95,7 +95,11 @@ def reason_codes(working: WorkingData, items: Sequence[Variable]) -> np.ndarray:
     out = np.zeros((n, len(items)), dtype=np.int8)
     for j, var in enumerate(items):
         col = reasons[var.name]
-        codes = pd.Categorical(col.astype(object), categories=list(REASONS)).codes
+        dtype = col.dtype
+        if isinstance(dtype, pd.CategoricalDtype) and tuple(dtype.categories) == REASONS:
+            codes = col.cat.codes.to_numpy()  # decoded reasons: already in REASONS order
+        else:
+            codes = pd.Categorical(col.astype(object), categories=list(REASONS)).codes
         codes = codes.astype(np.int16) + 1
         blank = values[var.name].isna().to_numpy()
         codes[(codes == 0) & blank] = 1 + REASONS.index(MissingReason.SKIPPED.value)
