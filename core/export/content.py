@@ -21,6 +21,7 @@ from core.kinds import REASON_LABELS, Kind, MissingReason
 from core.ledger import ACTION_LABELS, Action, entries_for, surviving
 from core.missing import REASONS, item_summary, summary_paragraphs
 from core.project import Project, Wave
+from core.response_rates import caption_rate
 from core.tables.result import Cell, TableResult
 from core.working import working_data
 
@@ -311,7 +312,7 @@ def appendix_blocks(project: Project, entries: list[Entry]) -> list[Block]:
         blocks.append(Paragraph(suppression_sentence(project, wave_entries)))
 
         # Response rate, when the evaluator entered the dispositions for this wave.
-        rate = _response_rate(project, wave)
+        rate = caption_rate(project, wave.id)
         if rate:
             blocks.append(Heading(2, "Response rate" + suffix))
             blocks.append(Paragraph(printable(rate)))
@@ -320,12 +321,6 @@ def appendix_blocks(project: Project, entries: list[Entry]) -> list[Block]:
         blocks.append(Heading(2, "Codebook of the reported items" + suffix))
         blocks.append(codebook_grid(reported))
     return blocks
-
-
-def _response_rate(project: Project, wave: Wave) -> str | None:
-    from core.response_rates import caption_rate
-
-    return caption_rate(project, wave.id)
 
 
 def _missing_grid(summary: Any) -> Grid:

@@ -17,6 +17,7 @@ from core.export.content import slug
 from core.export.report import FORMATS, check_outline, export_outline, file_names
 from core.ledger import Action, Decision, record
 from core.progress import Cancelled, Progress
+from core.response_rates import Dispositions, save_dispositions
 from core.tables.spec import TableSpec
 from tests.core.outline_project import make_project, raw_table
 
@@ -217,6 +218,23 @@ def test_personal_data_and_comments_only_when_included(tmp_path):
     project.close()
 
 
+def test_response_rate_in_the_appendix_when_dispositions_are_entered(tmp_path):
+    project = make_project(tmp_path)
+    outline.keep(project, TableSpec("track"), title="Track")
+    files = export_outline(project, tmp_path / "a", ["html"])
+    assert "Response rate" not in files[0].read_text(encoding="utf-8")
+    wave = project.find_wave("2026")
+    # AAPOR Standard Definitions RR2 = (I + P) / ((I + P) + (R + NC + O) + (UH + UO))
+    # = (110 + 10) / (120 + 50 + 30) = 60.0 % (METHODS.md §9).
+    save_dispositions(project, wave.id, Dispositions(I=110, P=10, R=20, NC=30, UH=30))
+    page = export_outline(project, tmp_path / "b", ["html"])[0].read_text(encoding="utf-8")
+    parser = _Text()
+    parser.feed(page)
+    assert ("h3", "Response rate") in parser.headings
+    assert "Response rate (AAPOR RR2): 60.0" in page
+    project.close()
+
+
 def test_cancel_leaves_nothing_behind(tmp_path):
     project = make_project(tmp_path)
     outline.keep(project, TableSpec("track"), title="Track")
@@ -287,3 +305,38 @@ def test_command_line_keep_outline_export(tmp_path, capsys):
     assert result["warnings"] == []
     assert cli(["export", path, "--out", str(out), "--formats", "pdf"]) == 2
     assert "Unknown export format pdf" in capsys.readouterr().err
+
+
+def test_keep_takes_every_table_option_of_the_table_command(tmp_path, capsys):
+    make_project(tmp_path).close()
+    path = str(tmp_path / "outline.plaincount")
+    argv = [
+        "keep",
+        path,
+        "satisfaction",
+        "--wave",
+        "2026",
+        "--instrument",
+        "Participant survey",
+        "--treatment",
+        "complete",
+        "--complete-items",
+        "age,track",
+        "--sd",
+        "sample",
+        "--sort",
+        "frequency",
+        "--show-mean",
+        "--pct-of-all",
+        "--json",
+    ]
+    assert cli(argv) == 0
+    spec = json.loads(capsys.readouterr().out)["spec"]
+    assert spec["wave"] == "2026" and spec["instrument"] == "Participant survey"
+    assert spec["treatment"] == "complete" and spec["complete_items"] == ["age", "track"]
+    assert spec["sd"] == "sample" and spec["sort"] == "frequency"
+    assert spec["show_mean"] is True and spec["pct_of_all"] is True
+    assert spec["percent"] == TableSpec("x").percent  # untouched options keep the defaults
+    assert cli(["keep", path, "track", "--chart", "pie"]) == 2
+    assert "cannot be shown as a pie chart" in capsys.readouterr().err
+    assert cli(["keep", path, "nothing_here"]) == 2
