@@ -53,8 +53,9 @@ GROUPING_KINDS = (Kind.CATEGORICAL, Kind.ORDINAL)
 
 DEFAULT_THRESHOLD = 5.0
 THRESHOLD_SOURCE = (
-    "A common rule of thumb treats 5 % missing or less as unlikely to matter (Schafer 1999, "
-    "as cited by Dong & Peng 2013, SpringerPlus 2:222); it is a rule of thumb, not a test. "
+    "A common rule of thumb treats 5 % missing or less as unlikely to matter (usually "
+    "attributed to Schafer 1999 and cited through Dong & Peng 2013, SpringerPlus 2:222); it "
+    "is a rule of thumb, not a test. "
     "The share depends on its base: a few percent of answers missing can still mean a large "
     "share of respondents with at least one gap, and whether the gaps are related to who the "
     "respondents are matters more than how many there are."
