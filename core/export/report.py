@@ -103,7 +103,11 @@ def export_outline(
     entries: list[Entry] = []
     for i, item in enumerate(kept):
         progress.update(i, steps, f"Computing “{item.title}”")
-        result = outline.result_for(project, item)
+        try:
+            result = outline.result_for(project, item)
+        except PlaincountError as exc:  # e.g. the question was removed from the codebook
+            warnings.append(f"“{item.title}” was left out: it cannot be computed now. {exc}")
+            continue
         instrument = result.instrument or item.spec.instrument
         codebook = _codebook_for(project, item.spec.variable, instrument)
         variables = spec_variables(result)
@@ -121,7 +125,7 @@ def export_outline(
                 "should show a finding."
             )
         entry = Entry(
-            number=len(entries) + 1,
+            number=item.position,  # names keep the outline position even when items are left out
             title=item.title,
             finding=item.finding,
             result=result,

@@ -203,7 +203,7 @@ def test_personal_data_and_comments_only_when_included(tmp_path):
     outline.keep(project, TableSpec("best_part"), title="Best part")
     outline.keep(project, TableSpec("track"), title="Track")
     files = export_outline(project, tmp_path / "a", ["csv"])
-    assert [p.name for p in files] == ["01-track.csv"]
+    assert [p.name for p in files] == ["03-track.csv"]  # numbered by outline position
     files = export_outline(
         project, tmp_path / "b", ["csv", "html"], include_personal=True, include_comments=True
     )
@@ -244,6 +244,18 @@ def test_cancel_leaves_nothing_behind(tmp_path):
     with pytest.raises(Cancelled):
         export_outline(project, tmp_path / "out", FORMATS, progress)
     assert list((tmp_path / "out").iterdir()) == []
+    project.close()
+
+
+def test_a_result_that_cannot_be_computed_is_left_out_with_a_warning(tmp_path):
+    project = make_project(tmp_path)
+    outline.keep(project, TableSpec("age"), title="Age")
+    outline.keep(project, TableSpec("track"), title="Track")
+    inst = project.instruments()[0]
+    project.set_codebook(inst.id, project.codebook(inst.id).without("age"))
+    files = export_outline(project, tmp_path / "out", ["csv"])
+    assert [p.name for p in files] == ["02-track.csv"]
+    assert files.warnings[0].startswith("“Age” was left out: it cannot be computed now.")
     project.close()
 
 
