@@ -46,8 +46,8 @@ from desktopapp.errors import message_for
 from desktopapp.icons import kind_icon
 from desktopapp.workers import BackgroundRunner, Job
 
-SPREADSHEETS = (".xlsx", ".xlsm", ".xls", ".ods")
-TEXT_FILES = (".csv", ".tsv", ".txt")
+SPREADSHEETS = (".xlsx", ".xlsm", ".xlsb", ".xls", ".ods")
+TEXT_FILES = (".csv", ".tsv", ".tab", ".txt")
 PREVIEW_ROWS = 50  # rows shown
 INFER_ROWS = 1000  # rows the column kinds are inferred from before import
 DEFAULT_INSTRUMENT = "Participant survey"
@@ -492,6 +492,7 @@ class ImportDialog(QDialog):
 
         def work(_progress: Any) -> tuple[Any, Codebook]:
             from core.inference import infer_codebook
+
             from core.readers import preview
 
             table = preview(path, nrows=INFER_ROWS, **settings)

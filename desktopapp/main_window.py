@@ -32,9 +32,9 @@ if TYPE_CHECKING:
     from desktopapp.import_dialog import ImportDialog
 
 PROJECT_SUFFIX = ".plaincount"
-DATA_SUFFIXES = (".xlsx", ".xlsm", ".xls", ".ods", ".csv", ".tsv", ".txt")
+DATA_SUFFIXES = (".xlsx", ".xlsm", ".xlsb", ".xls", ".ods", ".csv", ".tsv", ".tab", ".txt")
 PROJECT_FILTER = "Plaincount project (*.plaincount)"
-DATA_FILTER = "Survey data (*.xlsx *.xlsm *.xls *.ods *.csv *.tsv *.txt)"
+DATA_FILTER = "Survey data (*.xlsx *.xlsm *.xlsb *.xls *.ods *.csv *.tsv *.tab *.txt)"
 DEMO_FILE = "harbor_point_demo.plaincount"
 
 
