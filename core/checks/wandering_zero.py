@@ -1,7 +1,7 @@
 """Wandering zero or misplaced decimal: 120 typed for 12, 400 for 40.
 
 A value is flagged when it is far above the variable's typical answers (beyond Q3 + 3 IQR,
-Tukey's "far out", and above the 95th percentile by at least a factor 3) while its tenth or
+Tukey's "far out", and at least 3 times the median) while its tenth or
 hundredth lies among the usual answers (from the 5th percentile up to Tukey's inner fence
 Q3 + 1.5 IQR); when both the tenth and the hundredth do, the one nearer the median (as a
 ratio) is suggested. For whole-number variables
@@ -27,11 +27,11 @@ def candidates(x: np.ndarray, method: str = "linear") -> dict[int, float]:
     answered = data[~np.isnan(data)]
     if len(answered) == 0:
         return {}
-    p5, q1, median, q3, p95 = (
-        float(q) for q in np.quantile(answered, [0.05, 0.25, 0.5, 0.75, 0.95], method=method)
+    p5, q1, median, q3 = (
+        float(q) for q in np.quantile(answered, [0.05, 0.25, 0.5, 0.75], method=method)
     )
     whole = bool(np.all(answered == np.round(answered)))
-    floor = max(q3 + 3 * (q3 - q1), 3 * p95)
+    floor = max(q3 + 3 * (q3 - q1), 3 * median)
     top = q3 + 1.5 * (q3 - q1)
     centre = median if median > 0 else max(q3, 1.0)
     out: dict[int, float] = {}
