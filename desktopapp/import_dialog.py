@@ -52,7 +52,7 @@ PREVIEW_ROWS = 50  # rows shown
 INFER_ROWS = 1000  # rows the column kinds are inferred from before import
 DEFAULT_INSTRUMENT = "Participant survey"
 
-HEADER_CHOICES = [("Detect", None), ("None", 0), ("1 row", 1), ("2 rows", 2), ("3 rows", 3)]
+HEADER_CHOICES = [("Detect", None), ("No header row", 0), ("1 row", 1), ("2 rows", 2)]
 ENCODING_CHOICES = [
     ("Detect", None),
     ("UTF-8", "utf-8"),
@@ -235,9 +235,11 @@ class ImportDialog(QDialog):
         self.resize(1100, 760)
 
         is_sheet = self.path.suffix.lower() in SPREADSHEETS
-        is_text = self.path.suffix.lower() in TEXT_FILES
 
-        heading = QLabel(f"<b>{self.path.name}</b>")
+        heading = QLabel(f"Import <b>{_escape(self.path.name)}</b>")
+        heading_font = heading.font()
+        heading_font.setPointSizeF(heading_font.pointSizeF() * 1.3)
+        heading.setFont(heading_font)
         folder = QLabel(str(self.path.parent))
         folder.setForegroundRole(QPalette.ColorRole.PlaceholderText)
         more = QLabel(
@@ -260,17 +262,22 @@ class ImportDialog(QDialog):
         self.wave_edit.setObjectName("waveEdit")
 
         read_form = QFormLayout()
-        if is_sheet:
-            read_form.addRow("Sheet", self.sheet_combo)
+        read_form.addRow("Sheet", self.sheet_combo)
         read_form.addRow("Header rows", self.header_combo)
-        if is_text:
-            read_form.addRow("Text encoding", self.encoding_combo)
-            read_form.addRow("Separator", self.delimiter_combo)
-        for widget in (self.sheet_combo, self.encoding_combo, self.delimiter_combo):
-            widget.setVisible(
-                (widget is self.sheet_combo and is_sheet)
-                or (widget is not self.sheet_combo and is_text)
-            )
+        read_form.addRow("Text encoding", self.encoding_combo)
+        read_form.addRow("Separator", self.delimiter_combo)
+        self._read_form = read_form
+        for combo in (
+            self.sheet_combo,
+            self.header_combo,
+            self.encoding_combo,
+            self.delimiter_combo,
+            self.instrument_combo,
+        ):
+            combo.setMinimumWidth(240)
+            combo.setMaximumWidth(360)
+        self.wave_edit.setMaximumWidth(360)
+        self._update_read_rows(sheets=None)
         target_form = QFormLayout()
         target_form.addRow("Questionnaire", self.instrument_combo)
         target_form.addRow("Wave label", self.wave_edit)
@@ -319,7 +326,7 @@ class ImportDialog(QDialog):
         header.setSectionResizeMode(self.COL_LEVELS, QHeaderView.ResizeMode.Stretch)
         header.setSectionResizeMode(self.COL_MISSING, QHeaderView.ResizeMode.Interactive)
         self.columns_table.setColumnWidth(self.COL_QUESTION, 220)
-        self.columns_table.setColumnWidth(self.COL_MISSING, 200)
+        self.columns_table.setColumnWidth(self.COL_MISSING, 230)
         self.columns_table.verticalHeader().setVisible(False)
         self.columns_note = QLabel("")
         self.columns_note.setWordWrap(True)
@@ -452,7 +459,7 @@ class ImportDialog(QDialog):
         settings: dict[str, Any] = {"header_rows": self.header_combo.currentData()}
         if suffix in SPREADSHEETS and self.sheet_combo.count():
             settings["sheet"] = self.sheet_combo.currentText()
-        if suffix in TEXT_FILES:
+        if suffix in TEXT_FILES or self.encoding_combo.isVisibleTo(self):
             settings["encoding"] = self.encoding_combo.currentData()
             settings["delimiter"] = self.delimiter_combo.currentData()
         return settings
@@ -473,7 +480,17 @@ class ImportDialog(QDialog):
             show_progress=False,
         )
 
+    def _update_read_rows(self, sheets: list[str] | None) -> None:
+        """Sheet choice for workbooks; encoding and separator for text (even if misnamed)."""
+        suffix = self.path.suffix.lower()
+        is_text = suffix in TEXT_FILES or sheets == []
+        form = self._read_form
+        form.setRowVisible(self.sheet_combo, suffix in SPREADSHEETS and sheets != [])
+        form.setRowVisible(self.encoding_combo, is_text)
+        form.setRowVisible(self.delimiter_combo, is_text)
+
     def _on_sheets_loaded(self, sheets: list[str]) -> None:
+        self._update_read_rows(sheets)
         self._filling = True
         self.sheet_combo.clear()
         self.sheet_combo.addItems(sheets)
@@ -512,6 +529,10 @@ class ImportDialog(QDialog):
         frame = table.frame
         self._questions = dict(table.questions or {})
         self.preview_model.set_frame(frame.head(PREVIEW_ROWS), self._questions)
+        header = self.preview_table.horizontalHeader()
+        self.preview_table.resizeColumnsToContents()
+        for col in range(self.preview_model.columnCount()):
+            header.resizeSection(col, max(60, min(header.sectionSize(col) + 8, 240)))
         shown = min(len(frame), PREVIEW_ROWS)
         self.preview_note.setText(
             f"Showing the first {shown} rows and all {frame.shape[1]} columns. Hover over a "
@@ -760,6 +781,10 @@ def _choice_combo(choices: list[tuple[str, Any]], name: str) -> QComboBox:
     for text, value in choices:
         combo.addItem(text, value)
     return combo
+
+
+def _escape(text: str) -> str:
+    return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
 
 
 def _bold(text: str) -> QLabel:

@@ -155,7 +155,7 @@ def test_cancel_mid_import_leaves_the_project_unchanged(qtbot, tmp_path, monkeyp
 
 def test_an_unreadable_file_is_explained_in_the_dialog(window, empty_project, tmp_path):
     broken = tmp_path / "results.xlsx"
-    broken.write_text("minutes of the steering group, not a spreadsheet\n" * 10)
+    broken.write_bytes(b"%PDF-1.4\n" + bytes(range(256)) * 8)  # a PDF saved as .xlsx
     window.request_import([broken])
     dialog = window.import_dialog
     text = dialog.error_text()
