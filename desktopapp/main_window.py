@@ -360,6 +360,7 @@ class MainWindow(QMainWindow):
             import_requested=self.request_import,
             select_requested=self.show_node,
             settings=self.settings,
+            show_message=lambda text: self.statusBar().showMessage(text, 8000),
         )
 
     # ------------------------------------------------------------------ import

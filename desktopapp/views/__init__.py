@@ -58,6 +58,8 @@ class ViewContext:
     # Move the tree selection to another node: (node type, instrument id, wave id).
     select_requested: Callable[[str, int | None, int | None], None]
     settings: Any = None
+    # Show a short message in the window's status bar for a few seconds.
+    show_message: Callable[[str], None] | None = None
 
 
 ViewFactory = Callable[["ViewContext", "TreeNode"], Any]
