@@ -67,7 +67,8 @@ def guess(var: Variable, text: str | None) -> object | None:
         exact = [lv for lv in var.levels if lv.lower() == squeezed]
         if exact:
             return exact[0]
-        prefix = [lv for lv in var.levels if lv.lower().startswith(squeezed) and squeezed]
+        # A typed-in abbreviation ("Elec"); two letters ("No") are too little to go on.
+        prefix = [lv for lv in var.levels if len(squeezed) >= 3 and lv.lower().startswith(squeezed)]
         if len(prefix) == 1:
             return prefix[0]
         near = [lv for lv in var.levels if squeezed.startswith(lv.lower())]

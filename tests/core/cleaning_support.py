@@ -85,7 +85,10 @@ def survey(n: int = 40, seed: int = 7) -> tuple[pd.DataFrame, list[Variable]]:
         Variable("credential_earned", kind=Kind.CATEGORICAL, levels=("Yes", "No")),
         *[
             Variable(
-                f"agree_{j}", kind=Kind.LIKERT, levels=AGREE, group="agree",
+                f"agree_{j}",
+                kind=Kind.LIKERT,
+                levels=AGREE,
+                group="agree",
                 keying="negative" if j in (3, 6) else "positive",
             )
             for j in range(1, 7)

@@ -34,10 +34,12 @@ def test_invalid_cells_flagged_with_raw_text(tmp_path):
     ]
     project, wave = make_project(tmp_path, frame, book)
     with project:
-        flags = [f for f in check_run(working_data(project, wave), CheckSettings()).flags
-                 if f.check == "invalid"]
-    got = [(f.row, f.variables[0], f.value, f.suggestion.action, f.suggestion.value)
-           for f in flags]
+        flags = [
+            f
+            for f in check_run(working_data(project, wave), CheckSettings()).flags
+            if f.check == "invalid"
+        ]
+    got = [(f.row, f.variables[0], f.value, f.suggestion.action, f.suggestion.value) for f in flags]
     assert got == [
         (1, "credits", "twelve", Action.CORRECT, 12.0),
         (1, "track", "HVAC.", Action.CORRECT, "HVAC"),

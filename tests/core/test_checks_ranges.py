@@ -59,8 +59,11 @@ def test_codebook_range_and_impossible_values(tmp_path):
     ]
     project, wave = _project(tmp_path, variables, data)
     with project:
-        flags = [f for f in check_run(working_data(project, wave), CheckSettings()).flags
-                 if f.check == "range"]
+        flags = [
+            f
+            for f in check_run(working_data(project, wave), CheckSettings()).flags
+            if f.check == "range"
+        ]
     by = {(f.variables[0], f.value): f for f in flags}
     assert set(by) == {("age", 7.0), ("age", -99.0), ("hours_work_week", 190.0)}
     assert by[("age", 7.0)].severity == "error"  # codebook range
@@ -73,13 +76,15 @@ def test_codebook_range_and_impossible_values(tmp_path):
 
 
 def test_suggested_ranges_can_be_switched_off(tmp_path):
-    project, wave = _project(tmp_path, [Variable("age", kind=Kind.NUMERIC)],
-                             {"age": [30.0, 7.0]})
+    project, wave = _project(tmp_path, [Variable("age", kind=Kind.NUMERIC)], {"age": [30.0, 7.0]})
     with project:
         wd = working_data(project, wave)
         on = [f for f in check_run(wd, CheckSettings()).flags if f.check == "range"]
-        off = [f for f in check_run(wd, CheckSettings(suggested_ranges=False)).flags
-               if f.check == "range"]
+        off = [
+            f
+            for f in check_run(wd, CheckSettings(suggested_ranges=False)).flags
+            if f.check == "range"
+        ]
     assert [f.severity for f in on] == ["warning"] and off == []
 
 
@@ -108,10 +113,14 @@ def test_wandering_zero_prefers_value_nearest_typical(tmp_path):
 
 def test_wandering_zero_flag_suggests_value(tmp_path):
     credits = [12.0, 9.0, 15.0, 12.0, 14.0, 11.0, 13.0, 10.0, 12.0, 120.0]
-    project, wave = _project(tmp_path, [Variable("credits_term", kind=Kind.NUMERIC)],
-                             {"credits_term": credits})
+    project, wave = _project(
+        tmp_path, [Variable("credits_term", kind=Kind.NUMERIC)], {"credits_term": credits}
+    )
     with project:
-        flags = [f for f in check_run(working_data(project, wave), CheckSettings()).flags
-                 if f.check == "wandering_zero"]
+        flags = [
+            f
+            for f in check_run(working_data(project, wave), CheckSettings()).flags
+            if f.check == "wandering_zero"
+        ]
     assert [(f.row, f.suggestion.value) for f in flags] == [(9, 12.0)]
     assert flags[0].suggestion.action is Action.CORRECT

@@ -19,8 +19,13 @@ def _project(tmp_path, answers, comments):
     data = {f"agree_{j}": [row[j - 1] for row in answers] for j in range(1, 5)}
     data["comment"] = comments
     book = [
-        Variable(f"agree_{j}", kind=Kind.LIKERT, levels=AGREE, group="course",
-                 keying="negative" if j == 4 else "positive")
+        Variable(
+            f"agree_{j}",
+            kind=Kind.LIKERT,
+            levels=AGREE,
+            group="course",
+            keying="negative" if j == 4 else "positive",
+        )
         for j in range(1, 5)
     ] + [Variable("comment", kind=Kind.TEXT)]
     return make_project(tmp_path, pd.DataFrame(data), book)
@@ -53,8 +58,11 @@ def test_contradicting_keyed_items_and_comment(tmp_path):
     ]
     project, wave = _project(tmp_path, answers, comments)
     with project:
-        flags = [f for f in check_run(working_data(project, wave), CheckSettings()).flags
-                 if f.check == "reversed_scale"]
+        flags = [
+            f
+            for f in check_run(working_data(project, wave), CheckSettings()).flags
+            if f.check == "reversed_scale"
+        ]
     by_row = {f.row: f for f in flags}
     assert sorted(by_row) == [0, 1, 4]
     assert by_row[0].detail["sign"] == "both_kinds" and by_row[0].value == "agrees"
@@ -73,11 +81,13 @@ def test_reversing_the_scale_answers_the_flag(tmp_path):
     comments = ["Loved every class, the instructors were amazing!", "good", "fine"]
     project, wave = _project(tmp_path, answers, comments)
     with project:
-        flags = [f for f in check_run(working_data(project, wave), CheckSettings()).flags
-                 if f.check == "reversed_scale"]
+        flags = [
+            f
+            for f in check_run(working_data(project, wave), CheckSettings()).flags
+            if f.check == "reversed_scale"
+        ]
         assert [f.row for f in flags] == [0]
         decide(project, wave, flags[0], None, "Comment and overall rating are glowing")
         wd = working_data(project, wave)
         assert list(wd.values.loc[0, ["agree_1", "agree_4"]]) == [SA, SD]
-        assert not [f for f in check_run(wd, CheckSettings()).flags
-                    if f.check == "reversed_scale"]
+        assert not [f for f in check_run(wd, CheckSettings()).flags if f.check == "reversed_scale"]

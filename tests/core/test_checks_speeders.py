@@ -74,8 +74,11 @@ def test_finish_before_start_is_an_error(tmp_path):
 
 def test_time_columns_found_by_name_or_set():
     book = Codebook(
-        [Variable("opened", kind=Kind.DATE), Variable("x", kind=Kind.DATE),
-         Variable("closed", kind=Kind.DATE)]
+        [
+            Variable("opened", kind=Kind.DATE),
+            Variable("x", kind=Kind.DATE),
+            Variable("closed", kind=Kind.DATE),
+        ]
     )
     s, f = time_variables(book)
     assert (s.name, f.name) == ("opened", "closed")

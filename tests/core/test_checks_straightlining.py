@@ -42,8 +42,10 @@ def test_indicators_vectorised_and_blank_breaks_run():
 
 
 def _battery_project(tmp_path, rows, k_items=5):
-    data = {f"agree_{j}": [AGREE[r[j - 1] - 1] if r[j - 1] else None for r in rows]
-            for j in range(1, k_items + 1)}
+    data = {
+        f"agree_{j}": [AGREE[r[j - 1] - 1] if r[j - 1] else None for r in rows]
+        for j in range(1, k_items + 1)
+    }
     book = [Variable(f"agree_{j}", kind=Kind.LIKERT, levels=AGREE) for j in range(1, k_items + 1)]
     return make_project(tmp_path, pd.DataFrame(data), book)
 
@@ -60,8 +62,11 @@ def test_straightliners_flagged_with_k(tmp_path):
         assert flags[0].detail["longstring"] == 5
         assert flags[0].detail["sd"] == 0
         # With k = 4 the partly answered identical row counts too.
-        flags4 = [f for f in check_run(wd, CheckSettings(straightline_min_items=4)).flags
-                  if f.check == "straightlining"]
+        flags4 = [
+            f
+            for f in check_run(wd, CheckSettings(straightline_min_items=4)).flags
+            if f.check == "straightlining"
+        ]
         assert [f.row for f in flags4] == [0, 4]
 
 
@@ -69,19 +74,21 @@ def test_battery_shorter_than_k_is_not_checked(tmp_path):
     project, wave = _battery_project(tmp_path, [(2, 2, 2, 2)], k_items=4)
     with project:
         wd = working_data(project, wave)
-        assert not [f for f in check_run(wd, CheckSettings()).flags
-                    if f.check == "straightlining"]
+        assert not [f for f in check_run(wd, CheckSettings()).flags if f.check == "straightlining"]
 
 
 def test_batteries_from_groups_and_name_stems():
     book = Codebook(
-        [Variable("sat_1", kind=Kind.LIKERT, levels=AGREE),
-         Variable("sat_2", kind=Kind.LIKERT, levels=AGREE),
-         Variable("q_a", kind=Kind.LIKERT, levels=AGREE, group="grid"),
-         Variable("q_b", kind=Kind.LIKERT, levels=AGREE, group="grid"),
-         Variable("lonely", kind=Kind.LIKERT, levels=AGREE)]
+        [
+            Variable("sat_1", kind=Kind.LIKERT, levels=AGREE),
+            Variable("sat_2", kind=Kind.LIKERT, levels=AGREE),
+            Variable("q_a", kind=Kind.LIKERT, levels=AGREE, group="grid"),
+            Variable("q_b", kind=Kind.LIKERT, levels=AGREE, group="grid"),
+            Variable("lonely", kind=Kind.LIKERT, levels=AGREE),
+        ]
     )
     found = batteries(book)
     assert {k: [v.name for v in vs] for k, vs in found.items()} == {
-        "grid": ["q_a", "q_b"], "sat": ["sat_1", "sat_2"]
+        "grid": ["q_a", "q_b"],
+        "sat": ["sat_1", "sat_2"],
     }
