@@ -229,8 +229,9 @@ def crosstab_table(ctx: Context, name: str) -> TableResult:
     for gi, g in enumerate(groups.labels):
         row = [text_cell(g)]
         for j in range(counts.shape[1]):
-            row.append(count_cell(int(counts[gi, j]), bool(sup.cells[gi, j]), ctx,
-                                  sup.is_small(gi, j)))
+            row.append(
+                count_cell(int(counts[gi, j]), bool(sup.cells[gi, j]), ctx, sup.is_small(gi, j))
+            )
             row.append(
                 pct_cell(
                     p_or_none(perc[gi, j], hidden_pct[gi, j]),

@@ -65,6 +65,7 @@ STAT_LABELS = {
     "iqr": "Interquartile range (IQR)",
 }
 MAX_BINS = 40
+UNIT_BINS = 20  # whole numbers spanning up to this many get one bar each
 
 
 def describe(x: np.ndarray, sd: str = "population") -> dict[str, Any]:
@@ -128,15 +129,23 @@ def box_stats(x: np.ndarray, stats: dict[str, Any]) -> dict[str, Any]:
 
 
 def histogram_edges(x: np.ndarray) -> np.ndarray:
-    """Bin edges: one bin per whole number for short integer ranges, else numpy's 'auto'."""
+    """Bin edges: one bin per whole number for short integer ranges, else numpy's 'auto'.
+
+    Wide bins keep counts above the small-cell threshold more often; whole-number data get
+    bin edges at half-integers so no answer sits on an edge.
+    """
     if x.size == 0:
         return np.array([0.0, 1.0])
     lo, hi = float(x.min()), float(x.max())
-    if np.all(np.equal(np.mod(x, 1), 0)) and hi - lo <= MAX_BINS:
+    whole = bool(np.all(np.equal(np.mod(x, 1), 0)))
+    if whole and hi - lo <= UNIT_BINS:
         return np.arange(lo - 0.5, hi + 1.5, 1.0)
     edges = np.histogram_bin_edges(x, bins="auto")
     if len(edges) - 1 > MAX_BINS:
         edges = np.histogram_bin_edges(x, bins=MAX_BINS)
+    if whole:
+        width = max(1.0, float(np.ceil(edges[1] - edges[0])))
+        edges = np.arange(lo - 0.5, hi + width, width)
     return edges
 
 

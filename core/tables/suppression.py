@@ -252,6 +252,8 @@ def exposed_cells(
             bounds.append((float(threshold), None))
         else:
             bounds.append((0.0, None))
+    if len(rows_a) <= 1:
+        return _exposed_on_one_line(cells, rows_a, rhs, bounds)
     a_eq = np.array(rows_a) if rows_a else None
     b_eq = np.array(rhs) if rows_a else None
     exposed = []
@@ -265,6 +267,42 @@ def exposed_cells(
         if lo.status != 0 or hi.status != 0:
             continue
         if (-hi.fun) - lo.fun < 1.0 - 1e-9:
+            exposed.append(cell)
+    return exposed
+
+
+def _exposed_on_one_line(cells, rows_a, rhs, bounds) -> list[tuple[int, int]]:
+    """The same check in closed form when a single equation links the hidden cells."""
+    lo = np.array([b[0] for b in bounds], dtype=float)
+    # (Tables with one equation - one-way tables - are checked here without an LP solver.)
+    hi = np.array([np.inf if b[1] is None else b[1] for b in bounds], dtype=float)
+    if not rows_a:
+        return [cell for cell, a, b in zip(cells, lo, hi) if b - a < 1.0 - 1e-9]
+    coeffs, total = rows_a[0], rhs[0]
+    exposed = []
+    on = coeffs != 0
+    # Each equation here has coefficients +1 or -1; write it as sum(s_i x_i) = total.
+    s_lo = np.where(coeffs > 0, lo, -hi)
+    s_hi = np.where(coeffs > 0, hi, -lo)
+
+    def rest(values: np.ndarray, k: int) -> float:
+        # Sum over the other cells of the line, careful with unbounded (infinite) ends.
+        others = np.delete(values, k)[np.delete(on, k)]
+        return (
+            float(others.sum())
+            if np.isfinite(others).all()
+            else float(others[~np.isfinite(others)][0])
+        )
+
+    for k, cell in enumerate(cells):
+        if not on[k]:
+            if hi[k] - lo[k] < 1.0 - 1e-9:
+                exposed.append(cell)
+            continue
+        rest_lo, rest_hi = rest(s_lo, k), rest(s_hi, k)
+        term_lo = max(s_lo[k], total - rest_hi)
+        term_hi = min(s_hi[k], total - rest_lo)
+        if term_hi - term_lo < 1.0 - 1e-9:
             exposed.append(cell)
     return exposed
 
