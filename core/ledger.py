@@ -276,39 +276,64 @@ def _reinstate(project: Project, wave_id: int, ids: list[int]) -> None:
             )
 
 
+def _append_withdrawals(
+    project: Project, wave_id: int, targets: list[int], entries: dict[int, LedgerEntry]
+) -> None:
+    if not targets:
+        return
+    with project.transaction() as conn:
+        for i in targets:
+            e = entries[i]
+            conn.execute(
+                "INSERT INTO ledger(wave_id, action, respondent, row, variables, old_value, "
+                "new_value, check_name, reason, scope, batch, withdraws, created, author) "
+                "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
+                (
+                    wave_id,
+                    Action.WITHDRAW.value,
+                    e.respondent,
+                    e.row,
+                    json.dumps(list(e.variables)),
+                    json.dumps(e.id),
+                    None,
+                    None,
+                    "Undone",
+                    e.scope,
+                    None,
+                    e.id,
+                    now(),
+                    project.settings().get("author", ""),
+                ),
+            )
+
+
 def _undo_ledger(project: Project, payload: dict[str, Any], undo: bool) -> Changes:
     wave_id, ids = payload["wave_id"], payload["ids"]
     entries = {e.id: e for e in entries_for(project, wave_id)}
+    # A step holds decisions (undo withdraws them) or withdrawals (undo re-activates what
+    # they withdrew); redo does the opposite. Either way only new rows are appended.
+    decided = [i for i in ids if i in entries and entries[i].action is not Action.WITHDRAW]
+    withdrawn = [
+        int(entries[i].withdraws)
+        for i in ids
+        if i in entries
+        and entries[i].action is Action.WITHDRAW
+        and (entries[i].withdraws or 0) > 0
+        and int(entries[i].withdraws) in entries
+    ]
+    live = active_ids(project, wave_id)
     if undo:
-        live = active_ids(project, wave_id)
-        targets = [i for i in ids if i in live]
-        with project.transaction() as conn:
-            for i in targets:
-                e = entries[i]
-                conn.execute(
-                    "INSERT INTO ledger(wave_id, action, respondent, row, variables, old_value, "
-                    "new_value, check_name, reason, scope, batch, withdraws, created, author) "
-                    "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
-                    (
-                        wave_id,
-                        Action.WITHDRAW.value,
-                        e.respondent,
-                        e.row,
-                        json.dumps(list(e.variables)),
-                        json.dumps(e.id),
-                        None,
-                        None,
-                        "Undone",
-                        e.scope,
-                        None,
-                        e.id,
-                        now(),
-                        project.settings().get("author", ""),
-                    ),
-                )
+        _append_withdrawals(project, wave_id, [i for i in decided if i in live], entries)
+        back = [t for t in withdrawn if t not in live]
+        if back:
+            _reinstate(project, wave_id, back)
     else:
-        _reinstate(project, wave_id, ids)
-    variables = frozenset(v for i in ids if i in entries for v in entries[i].variables)
+        again = [i for i in decided if i not in live]
+        if again:
+            _reinstate(project, wave_id, again)
+        _append_withdrawals(project, wave_id, [t for t in withdrawn if t in live], entries)
+    touched = [*decided, *withdrawn]
+    variables = frozenset(v for i in touched if i in entries for v in entries[i].variables)
     return Changes(wave_ids=frozenset({wave_id}), variables=variables, ledger=True)
 
 
