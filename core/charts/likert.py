@@ -12,6 +12,8 @@ so every rectangle's geometry states directly which side of zero it is on.
 
 from __future__ import annotations
 
+import os
+
 from matplotlib.figure import Figure
 from matplotlib.patches import Patch
 from matplotlib.ticker import FuncFormatter, MaxNLocator
@@ -38,6 +40,9 @@ NEGATIVE_NOTE = (
     f"Items marked {NEGATIVE_MARK} are shown as answered: agreeing with them is the "
     "unfavourable answer."
 )
+SINGLE_NEGATIVE_NOTE = (
+    "This item is negatively worded: agreeing with it is the unfavourable answer."
+)
 
 
 def split_scale(n: int, neutral: int | None) -> tuple[list[int], int | None, list[int]]:
@@ -53,12 +58,44 @@ def split_scale(n: int, neutral: int | None) -> tuple[list[int], int | None, lis
     return list(range(neutral)), neutral, list(range(neutral + 1, n))
 
 
-def item_label(result: TableResult, item: str) -> str:
+_STEM_SEPARATORS = " -–—:|."
+
+
+def item_texts(result: TableResult) -> dict[str, str]:
+    """Each item's own words, without the question stem the whole battery shares.
+
+    Exports often repeat the stem in every item ("Thinking about the course, how much do you
+    agree? - I felt welcome"); the stem is already the chart title, and repeating it on every
+    bar would push the bars off the slide. An item whose text is only the stem keeps its name.
+    """
+    data = result.data
+    items = [str(i) for i in data.get("items", [])]
+    labels = {i: str((data.get("item_labels") or {}).get(i) or i) for i in items}
+    stems = [result.title.strip()] if result.title else []
+    if len(items) > 1:
+        common = os.path.commonprefix(list(labels.values()))
+        # Cut back to a word boundary so a shared first word of the statements is kept.
+        cut = max(common.rfind(ch) for ch in _STEM_SEPARATORS) + 1 if common else 0
+        if cut > 0:
+            stems.append(common[:cut])
+    out = {}
+    for i, text in labels.items():
+        for stem in stems:
+            if stem and text.startswith(stem):
+                text = text[len(stem) :]
+                break
+        text = text.strip().lstrip(_STEM_SEPARATORS).strip()
+        out[i] = text or i
+    return out
+
+
+def item_label(result: TableResult, item: str, texts: dict[str, str] | None = None) -> str:
     """The item's text (or name), marked when the item is negatively worded."""
     data = result.data
-    text = (data.get("item_labels") or {}).get(item) or item
+    text = (texts or item_texts(result)).get(item, item)
     label = wrap_label(text, 34)
-    if (data.get("keying") or {}).get(item) == "negative":
+    keying = data.get("keying")
+    if isinstance(keying, dict) and keying.get(item) == "negative":
         label += "\n" + NEGATIVE_MARK
     return label
 
@@ -74,7 +111,8 @@ def battery_rows(
         item: {lv: shapes.number((data["percents"].get(item) or {}).get(lv)) for lv in lvls}
         for item in items
     }
-    return items, [item_label(result, i) for i in items], table
+    texts = item_texts(result)
+    return items, [item_label(result, i, texts) for i in items], table
 
 
 def diverging_rows(
@@ -196,9 +234,13 @@ def draw_diverging(result: TableResult, figure: Figure, sizes: Sizes) -> list[st
     add_legend(figure, [Patch(facecolor=c) for c in colours], lvls, sizes)
 
     notes = [DIVERGING_NOTE]
-    keying = result.data.get("keying") or {}
-    if any(keying.get(r) == "negative" for r in rows):
-        notes.append(NEGATIVE_NOTE)
+    keying = result.data.get("keying")
+    said = any("negatively worded" in str(n).lower() for n in result.notes)
+    if isinstance(keying, dict):
+        if any(keying.get(r) == "negative" for r in rows) and not said:
+            notes.append(NEGATIVE_NOTE)
+    elif keying == "negative" and not said:  # one item, overall or by group
+        notes.append(SINGLE_NEGATIVE_NOTE)
     if hidden:
         notes.append(SUPPRESSED_NOTE)
     return notes

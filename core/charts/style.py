@@ -24,6 +24,7 @@ REFERENCE_WIDTH_IN = 12.8
 # Average glyph width as a share of the font size for a sans-serif face; used to wrap text
 # to the figure width before drawing (common practice, no source; checked by eye here).
 GLYPH_WIDTH = 0.55
+BOLD_GLYPH_WIDTH = 0.64  # bold type runs wider
 
 SUPPRESSED_NOTE = (
     "Counts below the small-cell threshold are hidden to protect respondents' "
@@ -58,10 +59,12 @@ def sizes_for(figure: Figure) -> Sizes:
     )
 
 
-def wrap(text: str, figure: Figure, fontsize: float, share: float = 0.96) -> str:
+def wrap(
+    text: str, figure: Figure, fontsize: float, share: float = 0.96, glyph: float = GLYPH_WIDTH
+) -> str:
     """Wrap ``text`` to ``share`` of the figure width at ``fontsize``."""
     width_pt = figure.get_figwidth() * 72 * share
-    chars = max(int(width_pt / (fontsize * GLYPH_WIDTH)), 12)
+    chars = max(int(width_pt / (fontsize * glyph)), 12)
     paragraphs = [p for p in str(text).splitlines() if p.strip()] or [""]
     return "\n".join(textwrap.fill(p, chars, break_on_hyphens=False) for p in paragraphs)
 
@@ -88,7 +91,7 @@ def add_title(figure: Figure, title: str, sizes: Sizes) -> None:
     if not title:
         return
     figure.suptitle(
-        wrap(title, figure, sizes.title),
+        wrap(title, figure, sizes.title, glyph=BOLD_GLYPH_WIDTH),
         x=0.01,
         ha="left",
         fontsize=sizes.title,
