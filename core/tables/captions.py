@@ -82,7 +82,7 @@ def group_title(group: str, questions: list[str]) -> str:
         if any(len(t) > len(stem) and t[len(stem)].isalnum() for t in texts):
             stem = stem[: stem.rfind(" ") + 1] if " " in stem else ""  # end at a whole word
         stem = stem.rstrip(" -–—:([")
-        if len(stem) >= 15:
+        if len(stem) >= 8:
             return short_title(stem)
     return group
 
