@@ -732,3 +732,21 @@ def test_clustered_chart_through_compute_table(anes_project):
     first_group = [p for p in bar_patches(fig.axes[0]) if abs(p.get_x() + 0.35) < 1e-9]
     assert len(first_group) < 2
     assert SUPPRESSED_NOTE in footer(fig).replace("\n", " ")
+
+
+def test_battery_labels_drop_the_shared_question_stem():
+    res = battery()
+    stem = "Thinking about the course, how much do you agree?"
+    res.title = stem
+    res.data["item_labels"] = {
+        "agree_1": f"{stem} - The course prepared me",
+        "agree_3": f"{stem} - The workload felt unmanageable",
+        "agree_6": stem,  # only the stem: the item's name is shown instead
+    }
+    ax = figure_for(res, "diverging").axes[0]
+    labels = [t.get_text().replace("\n", " ") for t in ax.get_yticklabels()]
+    assert labels == [
+        "The course prepared me",
+        f"The workload felt unmanageable {NEGATIVE_MARK}",
+        f"agree_6 {NEGATIVE_MARK}",
+    ]

@@ -144,10 +144,11 @@ def test_dispositions_and_caption_rate_stored_with_the_wave(tmp_path):
 
 
 def test_count_completes_from_answers(tmp_path):
-    # Five questions: a 3-item battery, a numeric item with -99 = declined, and a two-column
-    # ranking that counts as one question. Row answers:
-    #   r1 all five -> complete; r2 four of five (80 %) -> complete;
-    #   r3 three of five (60 %) -> partial; r4 one of five -> break-off;
+    # Six questions: a 3-item battery, a numeric item with -99 = declined, a two-column
+    # ranking that counts as one question, and a follow-up that can be "N/A". Rows:
+    #   r1 answers all six -> complete; r2 five of six -> complete;
+    #   r3 three of the five that apply to them (60 %) -> partial;
+    #   r4 one of six -> break-off;
     #   r5 declines the numeric item and answers the rest -> complete (declining is answering);
     #   r6 ranks only one option (the ranking still counts as answered) -> complete.
     raw = pd.DataFrame(
@@ -160,6 +161,8 @@ def test_count_completes_from_answers(tmp_path):
             "rank_x": ["1", "2", "1", None, "1", "1"],
             "rank_y": ["2", "1", "2", None, "2", None],
             "comment": [None, None, None, None, None, "Great"],
+            # Not applicable to r3 (still in school): left out of r3's questions.
+            "after": ["Yes", "No", "N/A", None, "Yes", "No"],
         }
     )
     codebook = Codebook(
@@ -170,14 +173,21 @@ def test_count_completes_from_answers(tmp_path):
             Variable("rank_x", kind=Kind.RANKING, group="supports", option="X"),
             Variable("rank_y", kind=Kind.RANKING, group="supports", option="Y"),
             Variable("comment", kind=Kind.TEXT),
+            Variable(
+                "after",
+                kind=Kind.CATEGORICAL,
+                levels=("Yes", "No"),
+                missing_codes={"N/A": MissingReason.NOT_APPLICABLE},
+            ),
         ]
     )
     proj, wave_id = make_project(tmp_path, raw, codebook)
     with proj:
         working = working_data(proj, wave_id)
     result = count_completes(working, threshold=0.8)
-    assert result.n_questions == 5
-    assert result.shares == pytest.approx([1.0, 0.8, 0.6, 0.2, 1.0, 1.0])
+    assert result.n_questions == 6
+    # r3: 3 of 5 applicable (the N/A question is left out); r4: 1 of 6.
+    assert result.shares == pytest.approx([1.0, 5 / 6, 0.6, 1 / 6, 1.0, 1.0])
     assert (result.completes, result.partials, result.breakoffs) == (4, 1, 1)
     stricter = count_completes(working, threshold=1.0, partial_threshold=0.7)
     assert (stricter.completes, stricter.partials, stricter.breakoffs) == (3, 1, 2)
