@@ -27,6 +27,7 @@ from scipy.stats import norm
 
 from core.errors import PlaincountError
 from core.project import Changes, Project
+from core.tables.result import TableResult
 
 DEFAULT_MARGIN = 0.05
 DEFAULT_CONFIDENCE = 0.95
@@ -375,6 +376,65 @@ def intervals_note(project: Project, wave_id: int, confidence: float = DEFAULT_C
             "correction)"
         )
     return text + "; they do not cover errors from who chose not to respond."
+
+
+def result_intervals(
+    result: TableResult, design: WaveDesign, confidence: float = DEFAULT_CONFIDENCE
+) -> dict[str, Any]:
+    """Wilson intervals (in percent) for every shown percentage of a table result.
+
+    Returns ``{"intervals": ..., "note": str}``. ``intervals`` mirrors ``data["percents"]``:
+    ``{level: [low, high]}`` for a frequency or choose-all table, ``{group: {level: [low,
+    high]}}`` for a cross-tabulation, with None where the count or its base is hidden. For a
+    whole-population wave ``intervals`` is empty and the note says why.
+    """
+    data = result.data
+    if design.whole_population:
+        return {
+            "intervals": {},
+            "note": "No margins of error: this wave was sent to the whole population.",
+        }
+    n_pop = design.population_size
+
+    def one(x: Any, base: Any) -> list[float] | None:
+        if x is None or not base or x > base:
+            return None
+        if n_pop is not None and base > n_pop:
+            raise PlaincountError(
+                f"A base of {base:,} is larger than the population of {n_pop:,} set for this "
+                "wave; correct the population size."
+            )
+        iv = wilson_interval(x, int(base), confidence, n_pop)
+        return [100 * iv.low, 100 * iv.high]
+
+    counts = data.get("counts") or {}
+    out: dict[str, Any] = {}
+    if data.get("groups") and all(isinstance(counts.get(g), dict) for g in data["groups"]):
+        kind = data.get("percent_base", getattr(result.spec, "percent", "row"))
+        for g in data["groups"]:
+            row = {}
+            for lv, x in counts[g].items():
+                if kind == "row":
+                    base = (data.get("group_bases") or {}).get(g)
+                elif kind == "column":
+                    base = (data.get("level_totals") or {}).get(lv)
+                else:
+                    base = data.get("total")
+                row[lv] = one(x, base)
+            out[g] = row
+    else:
+        base = data.get("base") if data.get("base") is not None else result.n_valid
+        out = {lv: one(x, base) for lv, x in counts.items() if not isinstance(x, dict)}
+    note = (
+        f"Ranges are {_pct(confidence)} Wilson score intervals"
+        + (
+            f" with the finite population correction (population {n_pop:,})"
+            if n_pop is not None
+            else ""
+        )
+        + "; they assume respondents are like a random sample."
+    )
+    return {"intervals": out, "note": note}
 
 
 def _pct(share: float) -> str:

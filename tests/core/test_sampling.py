@@ -250,3 +250,51 @@ def test_cli_sample_size_text_and_error(capsys):
     assert "aim for 15 completed responses" in out and "list 14" in out
     assert main(["sample-size", "--population", "100", "--margin", "5"]) == 2
     assert "write 5 % as 0.05" in capsys.readouterr().err
+
+
+# ------------------------------------------------------------------ intervals for a table
+def test_result_intervals_for_frequency_and_crosstab(tmp_path):
+    import statsmodels.api as sm
+
+    from core.sampling import WaveDesign, result_intervals
+    from core.tables.build import compute_table
+    from core.tables.spec import TableSpec
+
+    # statsmodels anes96 (1996 ANES extract): vote 0 = Clinton 551, 1 = Dole 393; the
+    # published PID x vote cross-tabulation is in METHODS §16.
+    a = sm.datasets.anes96.load_pandas().data
+    raw = pd.DataFrame(
+        {
+            "vote": ["Dole" if v == 1 else "Clinton" for v in a["vote"]],
+            "pid": [str(int(v)) for v in a["PID"]],
+        }
+    )
+    codebook = Codebook(
+        [
+            Variable("vote", "Vote", Kind.CATEGORICAL, ("Clinton", "Dole")),
+            Variable("pid", "Party", Kind.ORDINAL, tuple(str(i) for i in range(7))),
+        ]
+    )
+    with Project.create(tmp_path / "anes.plaincount") as proj:
+        inst = proj.add_instrument("ANES", codebook)
+        proj.add_wave(inst.id, "1996", "a.csv", b"x", raw)
+        freq = compute_table(proj, TableSpec("vote"))
+        cross = compute_table(proj, TableSpec("vote", by=("pid",), min_cell=0))
+
+    sample = WaveDesign(whole_population=False, population_size=None)
+    got = result_intervals(freq, sample)["intervals"]
+    low, high = proportion_confint(393, 944, method="wilson")
+    assert got["Dole"] == pytest.approx([100 * low, 100 * high], abs=1e-9)
+    # Within-group percentages: Dole voters among strong Republicans, 167 of 175.
+    got = result_intervals(cross, sample)["intervals"]
+    low, high = proportion_confint(167, 175, method="wilson")
+    assert got["6"]["Dole"] == pytest.approx([100 * low, 100 * high], abs=1e-9)
+    # A known population narrows every interval; a whole-population wave has none.
+    finite = result_intervals(freq, WaveDesign(False, 1200))
+    plain = result_intervals(freq, sample)["intervals"]["Dole"]
+    assert finite["intervals"]["Dole"][1] - finite["intervals"]["Dole"][0] < plain[1] - plain[0]
+    assert "finite population correction" in finite["note"]
+    whole = result_intervals(freq, WaveDesign(True, None))
+    assert whole["intervals"] == {} and "whole population" in whole["note"]
+    with pytest.raises(PlaincountError, match="larger than the population"):
+        result_intervals(freq, WaveDesign(False, 500))
