@@ -20,7 +20,6 @@ from core.codebook import Variable
 from core.errors import TableError
 from core.kinds import Kind
 from core.project import Project
-from core.tables.result import format_number
 
 METHODS = ("cuts", "equal", "quantile")
 
@@ -61,6 +60,11 @@ def cut_points_for(
     if np.all(np.mod(x, 1) == 0):
         points = [float(math.ceil(p)) for p in points]
     return tuple(sorted(set(points)))
+
+
+def format_number(x: float) -> str:
+    """A cut point as people write it: 25, 1.5, 2.25 (no trailing zeros)."""
+    return f"{float(x):,.6g}" if abs(x) < 1e6 else f"{float(x):,.0f}"
 
 
 def group_labels(cut_points: Sequence[float], whole_numbers: bool = True) -> list[str]:

@@ -12,6 +12,7 @@ import re
 from dataclasses import dataclass, field
 from typing import Any
 
+from core.disclosure import variable_notes
 from core.treatments import COMBINED, COMBINED_TEXT, REASON_TEXT
 
 TITLE_LIMIT = 90
@@ -180,29 +181,4 @@ SMALL_GROUP_CAUTION = (
 
 def cleaning_notes(project: Any, wave_id: int, variables: list[str]) -> list[str]:
     """Plain sentences about cleaning decisions that touched these variables."""
-    try:
-        from core.disclosure import variable_notes
-    except ImportError:  # until the disclosure module lands: count decisions from the ledger
-        return _ledger_count_notes(project, wave_id, variables)
     return list(variable_notes(project, wave_id, variables))
-
-
-def _ledger_count_notes(project: Any, wave_id: int, variables: list[str]) -> list[str]:
-    from core.ledger import Action, entries_for, surviving
-
-    wanted = set(variables)
-    decisions = surviving(entries_for(project, wave_id))
-    changed = [d for d in decisions if d.action is not Action.KEEP and wanted & set(d.variables)]
-    excluded = [d for d in decisions if d.action is Action.EXCLUDE]
-    notes = []
-    if changed:
-        notes.append(
-            f"Cleaning: {len(changed)} recorded decision{'s' if len(changed) != 1 else ''} "
-            "changed answers counted here (see the ledger)."
-        )
-    if excluded:
-        notes.append(
-            f"Cleaning: {len(excluded)} respondent{'s were' if len(excluded) != 1 else ' was'} "
-            "excluded from every analysis (see the ledger)."
-        )
-    return notes
