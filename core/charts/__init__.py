@@ -61,7 +61,7 @@ def chart_types(result: TableResult) -> list[str]:
     if shape == shapes.RANKING:
         return ["borda", "rank_positions"] if result.data.get("rank_counts") else ["borda"]
     if shape == shapes.MULTISELECT:
-        return ["bar", "column"]
+        return ["clustered"] if shapes.has_groups(result) else ["bar", "column"]
     if shape == shapes.NUMERIC:
         types = []
         if result.data.get("histogram") or result.data.get("histogram_by_group"):
@@ -91,7 +91,7 @@ def chart_label(chart_type: str) -> str:
 
 def _drawer(result: TableResult, chart_type: str) -> Drawer:
     shape = shapes.shape_of(result)
-    if shape == shapes.MULTISELECT:
+    if shape == shapes.MULTISELECT and chart_type != "clustered":
         return lambda r, f, s: draw_multiselect(r, f, s, horizontal=chart_type == "bar")
     table: dict[str, Drawer] = {
         "bar": lambda r, f, s: draw_frequency(r, f, s, horizontal=True),

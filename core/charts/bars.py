@@ -167,6 +167,10 @@ def draw_clustered(result: TableResult, figure: Figure, sizes: Sizes) -> list[st
         ax.set_ylabel("% within group", fontsize=sizes.label)
     add_legend(figure, handles, [_group_label(result, g).replace("\n", " ") for g in groups], sizes)
     notes = ["Columns show the percentage of each group giving each answer."]
+    if shapes.shape_of(result) == shapes.MULTISELECT:
+        from core.charts.multiselect import MULTI_NOTE
+
+        notes = [MULTI_NOTE.replace("respondents who", "each group's respondents who")]
     if hidden:
         notes.append(SUPPRESSED_NOTE)
     return notes

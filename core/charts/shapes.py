@@ -65,6 +65,8 @@ def levels(result: TableResult) -> list[str]:
     data = result.data
     if "levels" in data:
         return [str(x) for x in data["levels"]]
+    if "options" in data and "groups" in data:  # choose-all-that-apply by group
+        return [str(x) for x in data["options"]]
     if "waves" in data:
         seen: list[str] = []
         for wave in data["waves"]:

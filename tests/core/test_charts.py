@@ -750,3 +750,44 @@ def test_battery_labels_drop_the_shared_question_stem():
         f"The workload felt unmanageable {NEGATIVE_MARK}",
         f"agree_6 {NEGATIVE_MARK}",
     ]
+
+
+def test_multiselect_by_group_draws_clustered_columns():
+    res = barriers()
+    res.data.update(
+        {
+            "groups": ["Fall", "Spring"],
+            "group_bases": {"Fall": 100, "Spring": 50},
+            "counts": {
+                "Fall": {
+                    "Transportation": 40,
+                    "Childcare": 20,
+                    "Work schedule": 60,
+                    "Cost of tools": 10,
+                    "None": 10,
+                },
+                "Spring": {
+                    "Transportation": 30,
+                    "Childcare": None,
+                    "Work schedule": 20,
+                    "Cost of tools": 5,
+                    "None": 8,
+                },
+            },  # fmt: skip
+        }
+    )
+    res.data["percents"] = {
+        g: {o: (None if n is None else 100 * n / res.data["group_bases"][g]) for o, n in c.items()}
+        for g, c in res.data["counts"].items()
+    }
+    assert charts.chart_types(res) == ["clustered"]
+    fig = figure_for(res)
+    ax = fig.axes[0]
+    # Options by shown choices: Work schedule 80, Transportation 70, Childcare 20 (Spring's
+    # count is hidden), None 18, Cost of tools 15.
+    assert [t.get_text() for t in ax.get_xticklabels()] == [
+        "Work schedule", "Transportation", "Childcare", "None", "Cost of tools",
+    ]  # fmt: skip
+    heights = [[p.get_height() for p in c.patches] for c in ax.containers]
+    assert heights == [[60.0, 40.0, 20.0, 10.0, 10.0], [40.0, 60.0, 16.0, 10.0]]
+    assert "more than 100 %" in footer(fig).replace("\n", " ")
