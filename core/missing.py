@@ -302,13 +302,16 @@ class PositionTrend:
     """Whether items later in the questionnaire are left unanswered more often.
 
     ``table``: one row per part of the questionnaire (first, middle, last third by default)
-    with the mean share left unanswered. ``rho``/``p_value``: Spearman rank correlation of
-    item position with share unanswered (scipy.stats.spearmanr), a screening figure.
+    with the median (``pct_unanswered``) and mean share left unanswered over its items.
+    ``rho``/``p_value``: Spearman rank correlation of item position with share unanswered
+    (scipy.stats.spearmanr), a screening figure. Items that :func:`unusual_skips` marks are
+    left out (``left_out``): one confusing question should neither make nor hide a trend.
     """
 
     table: pd.DataFrame
     rho: float | None
     p_value: float | None
+    left_out: tuple[str, ...] = ()
 
     @property
     def rising(self) -> bool:
@@ -320,7 +323,9 @@ class PositionTrend:
 
 def position_trend(working: WorkingData, parts: int = 3) -> PositionTrend:
     """Share left unanswered by part of the questionnaire, and its rank correlation."""
-    table = dropoff(working).table
+    odd = unusual_skips(working)
+    table = dropoff(working).table[~odd["unusual"].to_numpy()].reset_index(drop=True)
+    left_out = tuple(odd.loc[odd["unusual"], "variable"])
     k = len(table)
     parts = max(1, min(parts, k))
     names = {3: ["first third", "middle third", "last third"], 2: ["first half", "second half"]}
@@ -335,7 +340,8 @@ def position_trend(working: WorkingData, parts: int = 3) -> PositionTrend:
                 "first_variable": sub["variable"].iloc[0],
                 "last_variable": sub["variable"].iloc[-1],
                 "n_items": len(sub),
-                "pct_unanswered": float(sub["pct_unanswered"].mean()),
+                "pct_unanswered": float(sub["pct_unanswered"].median()),
+                "mean_pct_unanswered": float(sub["pct_unanswered"].mean()),
             }
         )
     rho = p = None
@@ -343,7 +349,7 @@ def position_trend(working: WorkingData, parts: int = 3) -> PositionTrend:
     if k >= 3 and np.ptp(pct) > 0:
         res = stats.spearmanr(np.arange(k), pct)
         rho, p = float(res.statistic), float(res.pvalue)
-    return PositionTrend(table=pd.DataFrame(rows), rho=rho, p_value=p)
+    return PositionTrend(table=pd.DataFrame(rows), rho=rho, p_value=p, left_out=left_out)
 
 
 def unusual_skips(
@@ -877,9 +883,10 @@ def summary_paragraphs(working: WorkingData, threshold: float = DEFAULT_THRESHOL
         t = trend.table
         paras.append(
             "Items later in the questionnaire were left unanswered more often: "
-            f"{_pct(t['pct_unanswered'].iloc[0])} on average in the {t['part'].iloc[0]} against "
-            f"{_pct(t['pct_unanswered'].iloc[-1])} in the {t['part'].iloc[-1]} (Spearman "
-            f"rho = {trend.rho:.2f}). This often signals fatigue with a long questionnaire."
+            f"typically {_pct(t['pct_unanswered'].iloc[0])} of respondents per item in the "
+            f"{t['part'].iloc[0]} against {_pct(t['pct_unanswered'].iloc[-1])} in the "
+            f"{t['part'].iloc[-1]} (medians; Spearman rho = {trend.rho:.2f}, "
+            f"{_p_eq(trend.p_value)}). This often signals fatigue with a long questionnaire."
         )
     odd = unusual_skips(working)
     odd = odd[odd["unusual"]]

@@ -170,6 +170,7 @@ def _json(label, working, threshold, items, drop, odd, scan, mcar, paragraphs, b
                     {"part": r["part"], "pct_unanswered": _num(r["pct_unanswered"])}
                     for _, r in trend.table.iterrows()
                 ],
+                "left_out": list(trend.left_out),
                 "spearman_rho": trend.rho,
                 "p_value": trend.p_value,
                 "rising": trend.rising,
