@@ -9,7 +9,6 @@ code can measure what they find against what was planted.
 
 from __future__ import annotations
 
-import inspect
 import io
 import json
 import zipfile
@@ -419,23 +418,28 @@ def _answers(rng: np.random.Generator, people: pd.DataFrame, year: int) -> pd.Da
 
 
 def _tidy_battery(frame: pd.DataFrame) -> None:
-    """Remove chance straight-lining and chance contradictions so only planted ones remain."""
-    pos = frame[list(POSITIVE_ITEMS)].map(lambda v: AGREE.index(v) + 1 if v else np.nan)
-    for i in frame.index:
-        answers = [frame.at[i, item] for item in AGREE_ITEMS]
-        given = [a for a in answers if a is not None]
-        if len(given) == len(AGREE_ITEMS) and len(set(given)) == 1:
-            # Nudge one positively worded item by one step, away from the end of the scale.
-            k = AGREE.index(given[0])
-            frame.at[i, "agree_2"] = AGREE[k - 1 if k > 0 else 1]
-        p = pos.loc[i].mean()
-        neg = [AGREE.index(frame.at[i, it]) + 1 for it in NEGATIVE_ITEMS if frame.at[i, it]]
-        if neg and not np.isnan(p):
-            n = float(np.mean(neg))
-            if (p >= 3.5 and n >= 3.5) or (p <= 2.5 and n <= 2.5):
-                for it in NEGATIVE_ITEMS:
-                    if frame.at[i, it]:
-                        frame.at[i, it] = AGREE[int(np.clip(6 - round(p), 1, 5)) - 1]
+    """Remove chance straight-lining and chance contradictions so only planted ones remain.
+
+    Runs before any gaps are made, so every agreement item is answered here.
+    """
+    codes = np.array([[AGREE.index(v) + 1 for v in frame[item]] for item in AGREE_ITEMS]).T
+    straight = (codes == codes[:, :1]).all(axis=1)
+    # Nudge one positively worded item by one step, away from the end of the scale.
+    col = AGREE_ITEMS.index("agree_2")
+    pos_cols = [AGREE_ITEMS.index(i) for i in POSITIVE_ITEMS]
+    neg_cols = [AGREE_ITEMS.index(i) for i in NEGATIVE_ITEMS]
+    p = codes[:, pos_cols].mean(axis=1)
+    n = codes[:, neg_cols].mean(axis=1)
+    nudged = codes[:, col].copy()
+    nudged[straight] = np.where(codes[straight, col] > 1, codes[straight, col] - 1, 2)
+    frame["agree_2"] = [AGREE[c - 1] for c in nudged]
+    # Agreeing (or disagreeing) with both kinds of item: turn the negative items around.
+    both = ((p >= 3.5) & (n >= 3.5)) | ((p <= 2.5) & (n <= 2.5))
+    fixed = np.clip(6 - np.round(p), 1, 5).astype(int)
+    for c, item in zip(neg_cols, NEGATIVE_ITEMS):
+        frame[item] = [
+            AGREE[f - 1] if b else AGREE[v - 1] for f, b, v in zip(fixed, both, codes[:, c])
+        ]
 
 
 def _apply_gaps(rng: np.random.Generator, frame: pd.DataFrame) -> np.ndarray:
@@ -797,7 +801,7 @@ def _plant_2027(rng: np.random.Generator, frame: pd.DataFrame) -> tuple[pd.DataF
 
 # ----------------------------------------------------------------------------- patterns
 def _blank(series: pd.Series) -> pd.Series:
-    return series.isna() | series.astype(str).str.strip().eq("")
+    return series.isna() | series.map(lambda v: isinstance(v, str) and not v.strip())
 
 
 def _patterns(waves: dict[str, pd.DataFrame]) -> dict[str, Any]:
@@ -1156,41 +1160,25 @@ def build_demo_project(
                 progress=progress,
             )
             instrument_id = first.wave.instrument_id
-            settings = list(CODEBOOK_SETTINGS)
-            if _accepts(import_file, "column_map"):
-                # The 2027 export renamed one column and reworded one scale label: map both to
-                # this year's codebook so the waves line up.
-                settings += [
-                    {
-                        "name": item,
-                        "value_labels": {
-                            **project.codebook(instrument_id)[item].value_labels,
-                            **{new: old for old, new in REWORDED_2027.items()},
-                        },
-                    }
-                    for item in USE_ITEMS
-                    if item in project.codebook(instrument_id)
-                ]
-            codebook, _changed = project.codebook(instrument_id).applied(settings)
+            codebook, _changed = project.codebook(instrument_id).applied(CODEBOOK_SETTINGS)
             project.set_codebook(instrument_id, codebook, label="Apply the demo codebook settings")
-            if _accepts(import_file, "column_map"):
-                import_file(
-                    project,
-                    folder / FILE_NAMES["2027"],
-                    instrument=INSTRUMENT,
-                    wave="2027",
-                    header_rows=2,
-                    codebook=project.codebook(instrument_id),
-                    column_map={new: old for old, new in RENAMED_2027.items()},
-                    progress=progress,
-                )
+            # The 2027 export renamed one column and reworded one scale label: map both onto
+            # this codebook so the two waves line up.
+            import_file(
+                project,
+                folder / FILE_NAMES["2027"],
+                instrument=INSTRUMENT,
+                wave="2027",
+                header_rows=2,
+                column_map={new: old for old, new in RENAMED_2027.items()},
+                level_maps={
+                    item: {new: old for old, new in REWORDED_2027.items()} for item in USE_ITEMS
+                },
+                progress=progress,
+            )
     except BaseException:
         path.unlink(missing_ok=True)
         for suffix in ("-wal", "-shm"):
             path.with_name(path.name + suffix).unlink(missing_ok=True)
         raise
     return path
-
-
-def _accepts(func: Any, parameter: str) -> bool:
-    return parameter in inspect.signature(func).parameters

@@ -6,7 +6,15 @@ import argparse
 from pathlib import Path
 
 from core.cli.common import emit_json
-from core.demo import FILE_NAMES, MANIFEST_NAME, SEED, build_demo_project, write_demo_files
+from core.demo import (
+    FILE_NAMES,
+    MANIFEST_NAME,
+    PROJECT_NAME,
+    SEED,
+    build_demo_project,
+    write_demo_files,
+)
+from core.errors import PlaincountError
 from core.project import Project
 
 
@@ -25,6 +33,12 @@ def register(sub: argparse._SubParsersAction) -> None:
 
 def _demo(args: argparse.Namespace) -> int:
     folder = Path(args.folder)
+    if (folder / PROJECT_NAME).exists():
+        # Checked first so that nothing is generated or written in vain.
+        raise PlaincountError(
+            f"{folder / PROJECT_NAME} already exists; it was left as it is. Delete it or "
+            "choose another folder."
+        )
     manifest = write_demo_files(folder, seed=args.seed)
     project_path = build_demo_project(folder, seed=args.seed)
     with Project.open(project_path) as project:

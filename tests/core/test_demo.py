@@ -7,7 +7,9 @@ workbook), not against outside figures.
 
 from __future__ import annotations
 
+import io
 import json
+from contextlib import redirect_stdout
 from datetime import datetime
 from pathlib import Path
 
@@ -357,3 +359,64 @@ def test_expected_codebook_covers_every_column(written):
         if e["kind"] in ("likert", "ordinal", "categorical"):
             codes = set(e["missing_codes"])
             assert set(f[e["name"]].dropna()) <= set(e["levels"]) | codes, e["name"]
+
+
+# ----------------------------------------------------------------------------- demo project
+@pytest.fixture(scope="module")
+def project_folder(tmp_path_factory) -> tuple[Path, dict]:
+    """One run of ``plaincount-cli demo DIR --json``: its folder and printed JSON."""
+    from core.cli.main import main
+
+    folder = tmp_path_factory.mktemp("demo_project") / "fresh"
+    out = io.StringIO()
+    with redirect_stdout(out):
+        assert main(["demo", str(folder), "--json"]) == 0
+    return folder, json.loads(out.getvalue())
+
+
+def test_demo_project_holds_the_waves_and_settings(project_folder):
+    from core.kinds import Kind
+    from core.project import Project
+
+    path = project_folder[0] / demo.PROJECT_NAME
+    with Project.open(path) as project:
+        (instrument,) = project.instruments()
+        assert instrument.name == "Participant survey"
+        waves = project.waves(instrument.id)
+        assert [w.label for w in waves] == ["2026", "2027"]
+        assert [w.n_rows for w in waves] == [380, 410]
+        cb = project.codebook(instrument.id)
+        assert cb.identifier() is not None and cb.identifier().name == "resp_id"
+        assert cb["age"].range == (16.0, 80.0)
+        assert cb["credits_term"].range == (0.0, 24.0)
+        assert cb["hours_work_week"].range == (0.0, 80.0)
+        assert cb["years_experience"].range == (0.0, 50.0)
+        assert {v.name for v in cb if v.keying == "negative"} == {"agree_3", "agree_6"}
+        assert {v.name for v in cb if v.keying == "positive"} == set(demo.POSITIVE_ITEMS)
+        assert cb["agree_1"].kind is Kind.LIKERT
+        # The renamed 2027 column joined the 2026 variable; no new variable was made for it.
+        assert "work_hours_week" not in cb
+        raw27 = project.raw_table(waves[1].id)
+        assert "hours_work_week" in raw27.columns and len(raw27) == 410
+
+
+def test_demo_project_is_never_replaced(project_folder):
+    path = project_folder[0] / demo.PROJECT_NAME
+    before = path.read_bytes()
+    with pytest.raises(PlaincountError, match="already exists"):
+        demo.build_demo_project(project_folder[0])
+    assert path.read_bytes() == before
+
+
+def test_demo_command_json(project_folder, capsys):
+    from core.cli.main import main
+
+    folder, out = project_folder
+    assert out["rows"] == {"2026": 380, "2027": 410}
+    manifest = json.loads((folder / demo.MANIFEST_NAME).read_text(encoding="utf-8"))
+    assert out["problems"] == len(manifest["problems"]) == 28
+    assert Path(out["project"]) == folder / demo.PROJECT_NAME
+    assert out["waves_in_project"] == ["2026", "2027"]
+    # A second run into the same folder refuses with a plain message and exit status 2.
+    assert main(["demo", str(folder)]) == 2
+    assert "already exists" in capsys.readouterr().err
