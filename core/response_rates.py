@@ -219,8 +219,9 @@ def default_e(d: Dispositions) -> float:
 def outcome_rates(d: Dispositions, e: float | None = None) -> dict[str, Rate]:
     """All sixteen AAPOR rates, in the standard's order.
 
-    ``e`` defaults to :func:`default_e` (or 1.0 when there are no unknown-eligibility cases
-    and nothing to estimate it from, where e does not change any rate).
+    ``e`` defaults to :func:`default_e`. When no case has a known eligibility there is
+    nothing to estimate it from; 1.0 is used then, and it changes nothing, because every
+    numerator (completes, refusals, contacts) is 0 in that case.
     """
     if e is None:
         e = default_e(d) if (d.eligible_known + d.NE) else 1.0
