@@ -228,8 +228,10 @@ class ImportDialog(QDialog):
         self.result_wave: Wave | None = None
         self.job: Job | None = None
         self._inferred: Codebook | None = None
+        self._raw_inferred: Codebook | None = None
         self._edited: set[str] = set()
         self._questions: dict[str, str] = {}
+        self._known: set[str] = set()
         self._filling = False
         self.setWindowTitle(f"Import {self.path.name}")
         self.resize(1100, 760)
@@ -509,7 +511,6 @@ class ImportDialog(QDialog):
 
         def work(_progress: Any) -> tuple[Any, Codebook]:
             from core.inference import infer_codebook
-
             from core.readers import preview
 
             table = preview(path, nrows=INFER_ROWS, **settings)
@@ -538,15 +539,26 @@ class ImportDialog(QDialog):
             f"Showing the first {shown} rows and all {frame.shape[1]} columns. Hover over a "
             "column name to see its question text."
         )
-        self._inferred = inferred
-        self._edited.clear()
-        self._fill_columns()
+        self._raw_inferred = inferred
+        self._apply_known_entries()
         self.columns_note.setText(
             "Plaincount guessed what each column holds from the first "
             f"{min(len(frame), INFER_ROWS)} rows. Change anything that is wrong before "
             "importing; it can also be changed later in the codebook."
         )
         self.import_button.setEnabled(True)
+
+    def _apply_known_entries(self) -> None:
+        """Columns the chosen questionnaire already knows show (and keep) its entries."""
+        inferred = self._raw_inferred
+        if inferred is None:
+            return
+        inst = self._existing_instrument()
+        known = self.project.codebook(inst.id) if inst is not None else Codebook()
+        self._known = {v.name for v in inferred if v.name in known}
+        self._inferred = Codebook(known.get(v.name) or v for v in inferred)
+        self._edited.clear()
+        self._fill_columns()
 
     def _fill_columns(self) -> None:
         codebook = self._inferred
@@ -558,6 +570,11 @@ class ImportDialog(QDialog):
                 name_item = QTableWidgetItem(var.name)
                 name_item.setFlags(name_item.flags() & ~Qt.ItemFlag.ItemIsEditable)
                 question = QTableWidgetItem(var.question)
+                if var.name in self._known:
+                    name_item.setToolTip("Already in this questionnaire's codebook")
+                    font = name_item.font()
+                    font.setItalic(True)
+                    name_item.setFont(font)
                 question.setFlags(question.flags() & ~Qt.ItemFlag.ItemIsEditable)
                 question.setToolTip(var.question)
                 self.columns_table.setItem(row, self.COL_NAME, name_item)
@@ -598,17 +615,17 @@ class ImportDialog(QDialog):
         self._edited.add(name)
 
     def edited_codebook(self) -> Codebook | None:
-        """The inferred codebook with the evaluator's changes; None if nothing was changed.
+        """Entries for the columns the evaluator changed; None if nothing was changed.
 
-        With no changes the import infers from every row of the file rather than from the
-        first rows read here, which sees more of the answers.
+        Columns left alone are inferred by the import from every row of the file (rather
+        than from the first rows read here, which see fewer of the answers), or keep the
+        entry the questionnaire's codebook already has.
         """
         if self._inferred is None or not self._edited:
             return None
         variables = []
         for row, var in enumerate(self._inferred):
             if var.name not in self._edited:
-                variables.append(var)
                 continue
             combo: QComboBox = self.columns_table.cellWidget(row, self.COL_KIND)
             kind = Kind(combo.currentData())
@@ -628,6 +645,7 @@ class ImportDialog(QDialog):
     def _on_instrument_combo_changed(self, _text: str) -> None:
         self._guess_wave()
         self._update_target_note()
+        self._apply_known_entries()
 
     def _on_wave_edit_changed(self, _text: str) -> None:
         self._update_target_note()

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import threading
+import warnings
 
 import openpyxl
 import pytest
@@ -50,13 +51,16 @@ def write_xlsx(path, rows: int = 40):
 def _drop(window, paths):
     mime = QMimeData()
     mime.setUrls([QUrl.fromLocalFile(str(p)) for p in paths])
-    enter = QDragEnterEvent(
-        window.rect().center(),
-        Qt.DropAction.CopyAction,
-        mime,
-        Qt.MouseButton.LeftButton,
-        Qt.KeyboardModifier.NoModifier,
-    )
+    with warnings.catch_warnings():
+        # PySide6 marks the only QDragEnterEvent constructor deprecated; it is what Qt sends.
+        warnings.simplefilter("ignore", DeprecationWarning)
+        enter = QDragEnterEvent(
+            window.rect().center(),
+            Qt.DropAction.CopyAction,
+            mime,
+            Qt.MouseButton.LeftButton,
+            Qt.KeyboardModifier.NoModifier,
+        )
     window.dragEnterEvent(enter)
     assert enter.isAccepted()
     drop = QDropEvent(
@@ -101,15 +105,23 @@ def test_drag_and_drop_import_of_an_xlsx(window, empty_project, tmp_path):
     assert model.rowCount() == 40
     assert dialog.wave_edit.text() == "2026"  # taken from the file name
     assert dialog.columns_table.rowCount() == 4
-    # Change one inferred kind before importing.
-    dialog.set_kind("track", Kind.CATEGORICAL)
+    # Change one column's inferred kind and answers before importing.
+    row = dialog._row_of("satisfied")
+    dialog.set_kind("satisfied", Kind.ORDINAL)
+    dialog.columns_table.item(row, dialog.COL_LEVELS).setText(
+        "Dissatisfied; Satisfied; Very satisfied"
+    )
     dialog.import_button.click()
     assert window.import_dialog is None  # closed after a successful import
     waves = empty_project.waves()
     assert [(w.label, w.n_rows, w.n_columns) for w in waves] == [("2026", 40, 4)]
     codebook = empty_project.codebook(waves[0].instrument_id)
+    assert codebook["satisfied"].kind is Kind.ORDINAL
+    assert codebook["satisfied"].levels == ("Dissatisfied", "Satisfied", "Very satisfied")
+    # Columns left alone were inferred by the import itself.
     assert codebook["track"].kind is Kind.CATEGORICAL
     assert set(codebook["track"].levels) == set(TRACKS)
+    assert codebook["age"].missing_codes == {"-99": "declined"}
     assert window.tree.current_node().type == NodeType.WAVE  # the new wave is shown
 
 
