@@ -218,7 +218,9 @@ def _print(label, threshold, items, drop, scan, mcar, paragraphs, by):  # noqa: 
     for para in paragraphs:
         print(para)
         print()
-    rows = [["item", "answered", "missing", "% missing", *REASONS, f"> {threshold:g}%"]]
+    # Reasons that occur somewhere in the wave; empty columns only add width.
+    reasons = [x for x in REASONS if items[x].sum()]
+    rows = [["item", "answered", "missing", "% missing", *reasons, f"> {threshold:g}%"]]
     for _, r in items.iterrows():
         rows.append(
             [
@@ -226,7 +228,7 @@ def _print(label, threshold, items, drop, scan, mcar, paragraphs, by):  # noqa: 
                 str(int(r["n_answered"])),
                 str(int(r["n_missing"])),
                 _pct(r["pct_missing"]),
-                *[str(int(r[x])) for x in REASONS],
+                *[str(int(r[x])) for x in reasons],
                 "yes" if r["above_threshold"] else "",
             ]
         )
