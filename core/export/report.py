@@ -21,7 +21,6 @@ from pathlib import Path
 from core import outline
 from core.codebook import Codebook
 from core.errors import PlaincountError
-from core.export.clipboard import chart_images
 from core.export.comments import COMMENT_CAUTION
 from core.export.content import (
     Block,
@@ -36,6 +35,7 @@ from core.export.content import (
 )
 from core.export.csv_export import write_result_csv
 from core.export.docx_report import write_docx
+from core.export.drawing import ChartDrawer
 from core.export.html_report import write_html
 from core.export.workbook import write_workbook
 from core.kinds import Kind
@@ -65,6 +65,7 @@ def export_outline(
     *,
     include_personal: bool = False,
     include_comments: bool = False,
+    workers: int | None = None,
 ) -> ExportFiles:
     """Export every kept result in outline order; return the files written and warnings.
 
@@ -81,6 +82,9 @@ def export_outline(
     include_comments
         Export results about open-ended comments. Off by default, because comments can
         identify respondents; when on, the report carries a caution.
+    workers
+        Processes drawing charts (None: chosen from the number of charts and cores; 1: all
+        in this process). See :mod:`core.export.drawing`.
     """
     chosen = _check_formats(formats)
     progress = ensure_progress(progress)
@@ -99,43 +103,21 @@ def export_outline(
 
     warnings: list[str] = []
     draw = bool({"png", "svg", "xlsx", "docx", "html"} & set(chosen))
+    n_charts = sum(1 for item in kept if item.chart) if draw else 0
     steps = len(kept) + len(chosen)
-    entries: list[Entry] = []
-    for i, item in enumerate(kept):
-        progress.update(i, steps, f"Computing “{item.title}”")
-        try:
-            result = outline.result_for(project, item)
-        except PlaincountError as exc:  # e.g. the question was removed from the codebook
-            warnings.append(f"“{item.title}” was left out: it cannot be computed now. {exc}")
-            continue
-        instrument = result.instrument or item.spec.instrument
-        codebook = _codebook_for(project, item.spec.variable, instrument)
-        variables = spec_variables(result)
-        problem = (
-            _privacy(codebook, variables, include_personal, include_comments)
-            if codebook is not None
-            else None
+    with ChartDrawer(n_charts, svg="svg" in chosen, workers=workers) as drawer:
+        entries = _entries(
+            project,
+            kept,
+            progress,
+            steps,
+            drawer if draw else None,
+            warnings,
+            include_personal,
+            include_comments,
         )
-        if problem:
-            warnings.append(f"“{item.title}” was left out: {problem}")
-            continue
-        if item.chart and not item.finding:
-            warnings.append(
-                f"“{item.title}” is a chart without a finding sentence: a chart in a report "
-                "should show a finding."
-            )
-        entry = Entry(
-            number=item.position,  # names keep the outline position even when items are left out
-            title=item.title,
-            finding=item.finding,
-            result=result,
-            chart_type=item.chart,
-            wave_id=resolve_wave(project, item.spec).id,
-            variables=variables,
-        )
-        if item.chart and draw:
-            entry.png, entry.svg = chart_images(result, item.chart, svg="svg" in chosen)
-        entries.append(entry)
+        progress.update(len(kept), steps, "Drawing the charts")
+        drawer.finish(progress)
     if not entries:
         raise PlaincountError(
             "Nothing to export: every kept result was left out. " + " ".join(warnings)
@@ -194,6 +176,56 @@ def export_outline(
     finally:
         shutil.rmtree(staging, ignore_errors=True)
     return ExportFiles(final, warnings)
+
+
+def _entries(
+    project: Project,
+    kept: list[outline.OutlineItem],
+    progress: Progress,
+    steps: int,
+    drawer: ChartDrawer | None,
+    warnings: list[str],
+    include_personal: bool,
+    include_comments: bool,
+) -> list[Entry]:
+    """Recompute every kept result, leave out what must not be exported, start its chart."""
+    entries: list[Entry] = []
+    for i, item in enumerate(kept):
+        progress.update(i, steps, f"Computing “{item.title}”")
+        try:
+            result = outline.result_for(project, item)
+        except PlaincountError as exc:  # e.g. the question was removed from the codebook
+            warnings.append(f"“{item.title}” was left out: it cannot be computed now. {exc}")
+            continue
+        instrument = result.instrument or item.spec.instrument
+        codebook = _codebook_for(project, item.spec.variable, instrument)
+        variables = spec_variables(result)
+        problem = (
+            _privacy(codebook, variables, include_personal, include_comments)
+            if codebook is not None
+            else None
+        )
+        if problem:
+            warnings.append(f"“{item.title}” was left out: {problem}")
+            continue
+        if item.chart and not item.finding:
+            warnings.append(
+                f"“{item.title}” is a chart without a finding sentence: a chart in a report "
+                "should show a finding."
+            )
+        entry = Entry(
+            number=item.position,  # names keep the outline position even when items are left out
+            title=item.title,
+            finding=item.finding,
+            result=result,
+            chart_type=item.chart,
+            wave_id=resolve_wave(project, item.spec).id,
+            variables=variables,
+        )
+        if drawer is not None:
+            drawer.submit(entry)
+        entries.append(entry)
+    return entries
 
 
 def check_outline(
