@@ -513,10 +513,10 @@ def _text_grid(
         delim = sniff_delimiter(sample, path.suffix.lower())
         sniffed = True
     table = _arrow_csv(utf8, delim, nrows)
-    if table.num_columns == 1 and table.num_rows and _looks_like_prose(table, sample):
+    if table.num_columns <= 3 and table.num_rows and _looks_like_prose(sample, delim):
         raise ImportFailed(
-            f"{name} does not look like a table: it reads as running text with no column "
-            "separators. Import a spreadsheet or a CSV/TSV export."
+            f"{name} does not look like a table: it reads as running text (sentences), not rows "
+            "and columns. Import a spreadsheet or a CSV/TSV export."
         )
     head_table = table.slice(0, HEADER_SCAN_ROWS)
     head_cols = [c.to_pylist() for c in head_table.columns]
@@ -554,11 +554,26 @@ def _refuse_non_table(sample: str, name: str) -> None:
         raise ImportFailed(f"{name} holds JSON data, not a table. Export the data as CSV instead.")
 
 
-def _looks_like_prose(table: pa.Table, sample: str) -> bool:
-    """One column of long sentences, starting with a sentence: a document, not a table."""
-    first = next((ln.strip() for ln in sample.splitlines() if ln.strip()), "")
-    words = len(first.split())
-    return words > 8 or (words > 3 and first.endswith((".", "!", ":")))
+def _looks_like_prose(sample: str, delim: str) -> bool:
+    """Running sentences (a letter, a note) rather than rows: a document, not a table.
+
+    The first line is a sentence rather than column names (a field of many words, and the
+    line ends like a sentence), and most lines end with a full stop.
+    """
+    lines = [ln.strip() for ln in sample.splitlines() if ln.strip()][:50]
+    if not lines:
+        return False
+    try:
+        first = next(csv.reader([lines[0]], delimiter=delim))
+    except (csv.Error, StopIteration):
+        return False
+    most_words = max((len(f.split()) for f in first), default=0)
+    if most_words <= 6:
+        return False
+    if len(lines) == 1:
+        return lines[0].endswith((".", "!"))
+    ended = sum(ln.endswith((".", "!", ":")) for ln in lines) / len(lines)
+    return ended >= 0.6
 
 
 def sniff_delimiter(sample: str, suffix: str = "") -> str:

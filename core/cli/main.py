@@ -12,6 +12,7 @@ from core.errors import PlaincountError
 COMMAND_MODULES = [
     "core.cli.cleaning_commands",
     "core.cli.project_commands",
+    "core.cli.import_commands",
     "core.cli.missing_commands",
     "core.cli.demo_commands",
     "core.cli.export_commands",
