@@ -210,6 +210,20 @@ def draw_stacked(
         handles.append(Patch(facecolor=colours[k]))
         labels = [percent_text(v) if v >= MIN_LABELLED_SEGMENT else "" for v in vals]
         label_bars(ax, bars, labels, sizes, inside=True, colours=[colours[k]] * len(vals))
+    for i, start in enumerate(starts):
+        if start == 0 and all(table[rows[i]].get(lv) is None for lv in lvls):
+            # Everything in this group is hidden: say so where its bar would be.
+            ax.annotate(
+                HIDDEN_LABEL,
+                (0, i) if horizontal else (i, 0),
+                xytext=(4, 0) if horizontal else (0, 4),
+                textcoords="offset points",
+                ha="left" if horizontal else "center",
+                va="center" if horizontal else "bottom",
+                fontsize=sizes.value,
+                fontstyle="italic",
+                color=palette.MUTED_INK,
+            )
     if horizontal:
         ax.set_yticks(range(len(rows)), row_labels, fontsize=sizes.tick)
         ax.invert_yaxis()

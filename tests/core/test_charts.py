@@ -791,3 +791,14 @@ def test_multiselect_by_group_draws_clustered_columns():
     heights = [[p.get_height() for p in c.patches] for c in ax.containers]
     assert heights == [[60.0, 40.0, 20.0, 10.0, 10.0], [40.0, 60.0, 16.0, 10.0]]
     assert "more than 100 %" in footer(fig).replace("\n", " ")
+
+
+def test_stacked_group_with_everything_hidden_is_labelled_not_drawn():
+    res = completed_by_cohort()
+    res.data["counts"]["Summer"] = {"Yes": None, "No": None}
+    res.data["percents"]["Summer"] = {"Yes": None, "No": None}
+    ax = figure_for(res, "stacked100").axes[0]
+    xs = {round(p.get_x() + p.get_width() / 2) for p in bar_patches(ax)}
+    assert xs == {0, 1}
+    hidden = [t for t in ax.texts if t.get_text() == HIDDEN_LABEL]
+    assert len(hidden) == 1 and hidden[0].xy == (2, 0)
