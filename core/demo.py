@@ -154,9 +154,9 @@ _BASE_SKIP = 0.012  # chance of leaving any one early item blank
 _FATIGUE_SKIP = (0.02, 0.06)  # per-item skip chance at the start and end of the last third
 _BREAKOFF = 0.08  # share of respondents who stop answering somewhere in the last third
 _COMMENT_SKIP = 0.10  # open comments are left blank more often than closed items
-_INCOME_SKIP = {"Man": 0.32}  # the content pattern: men skip the income question far more
-_INCOME_SKIP_OTHER = 0.05
-_INCOME_DECLINE = 0.03
+_INCOME_SKIP = {"Man": 0.34}  # the content pattern: men skip the income question far more
+_INCOME_SKIP_OTHER = 0.04
+_INCOME_DECLINE = 0.02
 _PARTIAL_RANKING = 0.06  # share who rank only their top three supports
 
 # Demo codebook settings applied after import (partial entries, as ``codebook --apply`` takes).
@@ -543,7 +543,13 @@ class _Planter:
         **extra: Any,
     ) -> int:
         answered = self.frame[column].notna() & (self.frame[column] != -99)
-        row = self.pick(answered if eligible is None else answered & eligible)
+        ok = answered if eligible is None else answered & eligible
+        meant = extra.get("suggested")
+        if meant is not None:
+            # Prefer a respondent whose true answer was the value the typo stands for.
+            typed = ok & self.frame[column].eq(meant)
+            ok = typed if (typed & ~self.frame["_breakoff"]).any() else ok
+        row = self.pick(ok)
         self.set(row, {column: value})
         self.record(row, problem, [column], value, checks, note=note, **extra)
         return row
@@ -706,24 +712,22 @@ def _plant_2026(rng: np.random.Generator, frame: pd.DataFrame) -> tuple[pd.DataF
     p = _Planter(rng, frame, "2026")
     _record_duplicates(p, dups)
     clean = ~frame["_dup"]
-    eligible = clean & frame["credits_term"].eq(12)
     p.numeric(
         "credits_term",
         120,
         "wandering_zero",
         ["wandering_zero", "range", "outlier"],
         "Entered 120 where 12 was meant (a wandering zero).",
-        eligible,
+        clean,
         suggested=12,
     )
-    works40 = clean & frame["hours_work_week"].eq(40)
     p.numeric(
         "hours_work_week",
         400,
         "wandering_zero",
         ["wandering_zero", "range", "outlier"],
         "Entered 400 where 40 was meant (a wandering zero).",
-        works40,
+        clean,
         suggested=40,
     )
     p.numeric(
@@ -777,7 +781,7 @@ def _plant_2027(rng: np.random.Generator, frame: pd.DataFrame) -> tuple[pd.DataF
         "wandering_zero",
         ["wandering_zero", "range", "outlier"],
         "Entered 150 where 15 was meant (a wandering zero).",
-        clean & frame["credits_term"].eq(15),
+        clean,
         suggested=15,
     )
     p.numeric(
