@@ -100,7 +100,7 @@ _ID_NAME = re.compile(
     re.IGNORECASE,
 )
 _ID_QUESTION = re.compile(r"\b(?:id|identifier|respondent (?:number|code))\b", re.IGNORECASE)
-_CODE_VALUE = re.compile(r"^[A-Za-z]{0,6}[-_]?\d{2,}[A-Za-z]?$|^[0-9a-fA-F]{8}-[0-9a-fA-F-]{27}$")
+_CODE_VALUE = re.compile(r"^[A-Za-z]{0,6}[-_]?\d+[A-Za-z]?$|^[0-9a-fA-F]{8}-[0-9a-fA-F-]{27}$")
 _EMAIL = re.compile(r"^[^@\s]+@[^@\s]+\.[A-Za-z]{2,}$")
 _PHONE = re.compile(r"^\+?[\d\s().-]{7,20}$")
 _PERSONAL_NAME = {
@@ -304,7 +304,7 @@ def _looks_like_id(p: _Profile, answers: list[str], counts: np.ndarray) -> bool:
 
 def _bands(answers: list[str]) -> tuple[str, ...] | None:
     """Ordered bands such as "Under $20,000", "$20,000 to $39,999", "$80,000 or more"."""
-    if not 3 <= len(answers) <= 15:
+    if not 3 <= len(answers) <= 30:
         return None
     keys = []
     for text in answers:
@@ -327,6 +327,40 @@ def _bands(answers: list[str]) -> tuple[str, ...] | None:
     if all(re.fullmatch(r"[\d.,\s]+", a) for a in answers):
         return None  # plain numbers are numbers, not bands
     return tuple(a for _, a in sorted(zip(keys, answers)))
+
+
+# (rank, pattern) in the order they are tried: the most specific wording first, so "Some
+# college, no degree" is not read as a degree and "Less than high school" not as a diploma.
+_EDUCATION = (
+    (
+        0,
+        r"less than high school|no schooling|no formal|grade school|elementary|primary"
+        r"|\b[1-8](?:th)?\s*(?:-|to)\s*[1-8](?:th)?\s*grades?\b|8th grade or less",
+    ),
+    (1, r"some high school|no diploma|\b9(?:th)?\s*(?:-|to)\s*1[12](?:th)?\b"),
+    (3, r"some college|some university|no degree|vocational|trade school|technical"),
+    (4, r"associate"),
+    (6, r"graduate or professional|master|\bmba\b|postgraduate|graduate degree"),
+    (7, r"\bphd\b|ph\.d|doctor|professional degree|\bjd\b|\bmd\b"),
+    (5, r"bachelor|college degree|college graduate|undergraduate|\bba\b|\bbs\b"),
+    (2, r"high school|\bged\b|secondary|diploma"),
+)
+
+
+def _education(answers: list[str]) -> tuple[str, ...] | None:
+    """Levels of schooling in their natural order (from no schooling to a doctorate)."""
+    if not 3 <= len(answers) <= 12:
+        return None
+    ranks = {}
+    for text in answers:
+        low = text.lower()
+        rank = next((r for r, pattern in _EDUCATION if re.search(pattern, low)), None)
+        if rank is None:
+            return None
+        ranks[text] = rank
+    if len(set(ranks.values())) != len(ranks):
+        return None
+    return tuple(sorted(answers, key=ranks.__getitem__))
 
 
 def _dates(answers: list[str]) -> bool:
@@ -449,9 +483,10 @@ def _guess_column(p: _Profile) -> _Guess:
             if rated is not None:
                 guess.kind = Kind.LIKERT
                 guess.levels, guess.value_labels = rated
-        elif set(nums) <= {0.0, 1.0} and len(nums) == 2:
-            guess.kind = Kind.CATEGORICAL
-            guess.levels = tuple(answers[i] for i in np.argsort(nums))
+            elif set(nums) == {0.0, 1.0}:
+                # A 0/1 column is a yes/no answer, tabulated as two categories.
+                guess.kind = Kind.CATEGORICAL
+                guess.levels = tuple(answers[i] for i in np.argsort(nums))
         return guess
     if _looks_like_id(p, answers, counts):
         guess.kind = Kind.IDENTIFIER
@@ -466,7 +501,7 @@ def _guess_column(p: _Profile) -> _Guess:
         guess.kind = Kind.ORDINAL
         guess.levels, guess.value_labels = ordered.levels()
         return guess
-    bands = _bands(answers)
+    bands = _bands(answers) or _education(answers)
     if bands is not None:
         guess.kind = Kind.ORDINAL
         guess.levels = bands

@@ -226,6 +226,16 @@ ORDERED_SETS: tuple[Scale, ...] = (
     _scale("amount", "Low", ("Medium", "Moderate"), "High"),
     _scale("amount", "Very low", "Low", ("Medium", "Moderate"), "High", "Very high"),
     _scale("amount", "None", ("A little", "A little bit"), "Some", ("A lot", "A great deal")),
+    _scale(
+        "political leaning",
+        ("Extremely liberal", "Very liberal"),
+        "Liberal",
+        ("Slightly liberal", "Somewhat liberal"),
+        ("Moderate", "Middle of the road", "Moderate / middle of the road"),
+        ("Slightly conservative", "Somewhat conservative"),
+        "Conservative",
+        ("Extremely conservative", "Very conservative"),
+    ),
     _scale("size", "Small", "Medium", "Large"),
     _scale("size", "Small", "Medium", "Large", ("Extra large", "Very large")),
 )
