@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import io
 import json
+import shutil
 from contextlib import redirect_stdout
 from datetime import datetime
 from pathlib import Path
@@ -215,9 +216,21 @@ def test_every_manifest_problem_is_in_the_data(written):
 
 def test_planted_problems_are_the_only_ones(written):
     """Each kind of planted problem appears exactly where the manifest says, and nowhere else."""
-    m = written["manifest"]
+    _assert_only_planted(
+        {label: _frame(written, label) for label in demo.WAVES}, written["manifest"]
+    )
+
+
+@pytest.mark.parametrize("seed", [11, 37])
+def test_other_seeds_plant_the_same_problems(seed):
+    data = demo.generate(seed)
+    assert len(data.manifest["problems"]) == 28
+    _assert_only_planted(data.waves, data.manifest)
+
+
+def _assert_only_planted(frames: dict[str, pd.DataFrame], m: dict) -> None:
     for label in demo.WAVES:
-        f = _frame(written, label)
+        f = frames[label]
         hours = "work_hours_week" if label == "2027" else "hours_work_week"
         planted: dict[str, set[int]] = {}
         for p in m["problems"]:
@@ -420,3 +433,15 @@ def test_demo_command_json(project_folder, capsys):
     # A second run into the same folder refuses with a plain message and exit status 2.
     assert main(["demo", str(folder)]) == 2
     assert "already exists" in capsys.readouterr().err
+
+
+def test_failed_build_leaves_no_project(written, tmp_path):
+    for name in (*demo.FILE_NAMES.values(), demo.MANIFEST_NAME):
+        shutil.copyfile(written["folder"] / name, tmp_path / name)
+    (tmp_path / demo.FILE_NAMES["2027"]).write_bytes(b"PK\x03\x04 not really a workbook")
+    with pytest.raises(PlaincountError):
+        demo.build_demo_project(tmp_path)
+    assert not (tmp_path / demo.PROJECT_NAME).exists()
+    assert sorted(p.name for p in tmp_path.iterdir()) == sorted(
+        [*demo.FILE_NAMES.values(), demo.MANIFEST_NAME]
+    )
