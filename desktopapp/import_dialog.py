@@ -229,6 +229,7 @@ class ImportDialog(QDialog):
         self.job: Job | None = None
         self._inferred: Codebook | None = None
         self._raw_inferred: Codebook | None = None
+        self._inferred_rows = 0
         self._edited: set[str] = set()
         self._questions: dict[str, str] = {}
         self._known: set[str] = set()
@@ -530,22 +531,15 @@ class ImportDialog(QDialog):
         frame = table.frame
         self._questions = dict(table.questions or {})
         self.preview_model.set_frame(frame.head(PREVIEW_ROWS), self._questions)
-        header = self.preview_table.horizontalHeader()
-        self.preview_table.resizeColumnsToContents()
-        for col in range(self.preview_model.columnCount()):
-            header.resizeSection(col, max(60, min(header.sectionSize(col) + 8, 240)))
+        fit_columns(self.preview_table)
         shown = min(len(frame), PREVIEW_ROWS)
         self.preview_note.setText(
             f"Showing the first {shown} rows and all {frame.shape[1]} columns. Hover over a "
             "column name to see its question text."
         )
         self._raw_inferred = inferred
+        self._inferred_rows = min(len(frame), INFER_ROWS)
         self._apply_known_entries()
-        self.columns_note.setText(
-            "Plaincount guessed what each column holds from the first "
-            f"{min(len(frame), INFER_ROWS)} rows. Change anything that is wrong before "
-            "importing; it can also be changed later in the codebook."
-        )
         self.import_button.setEnabled(True)
 
     def _apply_known_entries(self) -> None:
@@ -559,6 +553,17 @@ class ImportDialog(QDialog):
         self._inferred = Codebook(known.get(v.name) or v for v in inferred)
         self._edited.clear()
         self._fill_columns()
+        self.columns_note.setText(
+            "Plaincount guessed what each column holds from the first "
+            f"{self._inferred_rows} rows. Change anything that is wrong before "
+            "importing; it can also be changed later in the codebook."
+            + (
+                " Columns in italics are already in the questionnaire's codebook and keep "
+                "their entries unless you change them here."
+                if self._known
+                else ""
+            )
+        )
 
     def _fill_columns(self) -> None:
         codebook = self._inferred
@@ -791,6 +796,19 @@ class ImportDialog(QDialog):
         self.error_label.setText("")
         self.details_button.hide()
         self.details_text.hide()
+
+
+def fit_columns(table: QTableView, sample_rows: int = 50, widest: int = 240) -> None:
+    """Size each column to its header and first rows, within sensible bounds."""
+    model = table.model()
+    header = table.horizontalHeader()
+    fm = table.fontMetrics()
+    rows = min(model.rowCount(), sample_rows)
+    for col in range(model.columnCount()):
+        texts = [str(model.headerData(col, Qt.Orientation.Horizontal) or "")]
+        texts += [str(model.data(model.index(r, col)) or "") for r in range(rows)]
+        width = max(fm.horizontalAdvance(t) for t in texts) + 18
+        header.resizeSection(col, max(60, min(width, widest)))
 
 
 def _choice_combo(choices: list[tuple[str, Any]], name: str) -> QComboBox:

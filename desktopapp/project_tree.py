@@ -112,6 +112,7 @@ class ProjectTreeWidget(QTreeWidget):
                 parent_item = self._items[parent.key] if parent is not None else None
                 item = QTreeWidgetItem([node.label])
                 item.setData(0, Qt.ItemDataRole.UserRole, node)
+                item.setToolTip(0, node.label)
                 item.setIcon(0, node_icon(node.type))
                 if parent_item is None:
                     self.addTopLevelItem(item)

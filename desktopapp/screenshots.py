@@ -8,6 +8,7 @@ themselves; a view can add its dialogs through ``screenshot_dialogs()``.
 from __future__ import annotations
 
 import os
+import shutil
 import sys
 import tempfile
 from pathlib import Path
@@ -24,7 +25,10 @@ def capture(out_dir: Path) -> list[Path]:
     from PySide6.QtWidgets import QApplication
 
     out_dir.mkdir(parents=True, exist_ok=True)
-    work = Path(tempfile.mkdtemp(prefix="plaincount-shots-"))
+    # A fixed folder name, so the paths shown in the pictures do not change from run to run.
+    work = Path(tempfile.gettempdir()) / "plaincount-screenshots"
+    shutil.rmtree(work, ignore_errors=True)
+    work.mkdir(parents=True)
     for fmt in (QSettings.Format.NativeFormat, QSettings.Format.IniFormat):
         QSettings.setPath(fmt, QSettings.Scope.UserScope, str(work / "settings"))
     app = QApplication.instance() or QApplication([sys.argv[0]])
@@ -40,7 +44,7 @@ def capture(out_dir: Path) -> list[Path]:
 
     def save(widget, name: str) -> None:
         app.processEvents()
-        path = out_dir / f"{len(saved) + 1:02d}-{name}.png"
+        path = out_dir / f"{name}.png"  # named, not numbered: new views add files only
         widget.grab().save(str(path))
         saved.append(path)
 
@@ -66,10 +70,10 @@ def capture(out_dir: Path) -> list[Path]:
         view = window.view
         if node.type == NodeType.CODEBOOK and hasattr(view, "select_variable"):
             view.select_variable(CODEBOOK_EXAMPLE)
-        save(window, node.type)
+        save(window, f"view-{node.type}")
         for name, dialog in getattr(view, "screenshot_dialogs", lambda: [])():
             dialog.show()
-            save(dialog, name)
+            save(dialog, f"dialog-{name}")
             dialog.close()
 
     from desktopapp.import_dialog import ImportDialog
@@ -79,7 +83,7 @@ def capture(out_dir: Path) -> list[Path]:
     dialog.wave_edit.setText("2027 re-run")
     dialog.resize(1180, 800)
     dialog.show()
-    save(dialog, "import-dialog")
+    save(dialog, "dialog-import")
     dialog.close()
 
     broken = work / "not really a workbook.xlsx"
@@ -87,7 +91,7 @@ def capture(out_dir: Path) -> list[Path]:
     dialog = ImportDialog(window.project, window.runner, broken, parent=window)
     dialog.resize(900, 520)
     dialog.show()
-    save(dialog, "import-error")
+    save(dialog, "dialog-import-error")
     dialog.close()
 
     window.close()

@@ -15,6 +15,7 @@ from PySide6.QtWidgets import (
     QListWidget,
     QListWidgetItem,
     QPushButton,
+    QSizePolicy,
     QStyle,
     QStyledItemDelegate,
     QStyleOptionViewItem,
@@ -171,7 +172,7 @@ class StartPageWidget(QWidget):
         self.recent_list.setObjectName("recentList")
         self.recent_list.setItemDelegate(RecentProjectDelegate(self.recent_list))
         self.recent_list.setUniformItemSizes(True)
-        self.recent_list.setMinimumHeight(200)
+        self.recent_list.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Fixed)
         self.empty_label = QLabel(
             "Projects you open will be listed here. A project is one file that holds the "
             "survey data, its codebook and every cleaning decision, saved as you go."
@@ -190,9 +191,11 @@ class StartPageWidget(QWidget):
         column.addLayout(buttons)
         column.addSpacing(24)
         column.addWidget(recent_title)
-        column.addWidget(self.recent_list, 1)
+        column.addWidget(self.recent_list)
         column.addWidget(self.empty_label)
+        column.addSpacing(8)
         column.addWidget(hint)
+        column.addStretch(1)
 
         inner = QWidget()
         inner.setLayout(column)
@@ -222,6 +225,9 @@ class StartPageWidget(QWidget):
             item.setData(OPENED_ROLE, entry.get("opened", ""))
             item.setToolTip(entry["path"])
             self.recent_list.addItem(item)
+        # As tall as the list (at most MAX_RECENT rows), so the page does not end in blank space.
+        row_h = self.recent_list.sizeHintForRow(0) if entries else 0
+        self.recent_list.setFixedHeight(row_h * len(entries) + 2 * self.recent_list.frameWidth())
         self.recent_list.setVisible(bool(entries))
         self.empty_label.setVisible(not entries)
 

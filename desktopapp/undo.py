@@ -117,6 +117,9 @@ class HistoryListWidget(QListWidget):
         self.setObjectName("historyList")
         self.setSelectionMode(QListWidget.SelectionMode.NoSelection)
         self.setFocusPolicy(Qt.FocusPolicy.NoFocus)
+        self.setStyleSheet(
+            "QListWidget::item { padding: 6px 4px; border-bottom: 1px solid palette(midlight); }"
+        )
         self._project: Project | None = None
 
     def set_project(self, project: Project | None) -> None:

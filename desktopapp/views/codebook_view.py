@@ -29,6 +29,7 @@ from PySide6.QtWidgets import (
     QLineEdit,
     QListWidget,
     QListWidgetItem,
+    QPlainTextEdit,
     QPushButton,
     QRadioButton,
     QScrollArea,
@@ -239,6 +240,21 @@ class FrequencyPreviewWidget(QWidget):
 
 
 # ---------------------------------------------------------------------- the view
+class QuestionEdit(QPlainTextEdit):
+    """A few lines for the question text; the change is committed when focus leaves."""
+
+    editing_finished = Signal()
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setTabChangesFocus(True)
+        self.setFixedHeight(self.fontMetrics().lineSpacing() * 3 + 12)
+
+    def focusOutEvent(self, event: Any) -> None:  # noqa: N802 - Qt override
+        super().focusOutEvent(event)
+        self.editing_finished.emit()
+
+
 class LevelListWidget(QListWidget):
     """The ordered answers: drag to reorder, double-click to rename."""
 
@@ -283,9 +299,8 @@ class CodebookView(QWidget):
         self.variable_tree.setObjectName("variableTree")
         self.variable_tree.setColumnCount(2)
         self.variable_tree.setHeaderLabels(["Variable", "Kind"])
-        self.variable_tree.header().setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
-        self.variable_tree.header().setSectionResizeMode(1, QHeaderView.ResizeMode.ResizeToContents)
-        self.variable_tree.header().setStretchLastSection(False)
+        self.variable_tree.header().setSectionResizeMode(0, QHeaderView.ResizeMode.ResizeToContents)
+        self.variable_tree.header().setStretchLastSection(True)
         self.variable_tree.setUniformRowHeights(True)
         self.count_label = muted_label("")
         left = QWidget()
@@ -299,7 +314,7 @@ class CodebookView(QWidget):
         self.name_label = title_label("")
         self.name_label.setObjectName("variableName")
         self.name_label.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
-        self.question_edit = QLineEdit()
+        self.question_edit = QuestionEdit()
         self.question_edit.setObjectName("questionEdit")
         self.question_edit.setPlaceholderText("The question as respondents saw it")
         self.kind_combo = QComboBox()
@@ -346,7 +361,6 @@ class CodebookView(QWidget):
             1, QHeaderView.ResizeMode.Stretch
         )
         self.missing_table.verticalHeader().setVisible(False)
-        self.missing_table.setMaximumHeight(120)
         self.missing_add_button = QPushButton("Add a code")
         self.missing_remove_button = QPushButton("Remove")
         missing_buttons = QHBoxLayout()
@@ -489,7 +503,7 @@ class CodebookView(QWidget):
         self.splitter.addWidget(left)
         self.splitter.addWidget(details_scroll)
         self.splitter.addWidget(right)
-        self.splitter.setSizes([280, 460, 320])
+        self.splitter.setSizes([330, 480, 330])
         self.splitter.setChildrenCollapsible(False)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
@@ -508,7 +522,7 @@ class CodebookView(QWidget):
     def _connect_signals(self) -> None:
         self.search_edit.textChanged.connect(self._on_search_edit_changed)
         self.variable_tree.currentItemChanged.connect(self._on_variable_tree_current_changed)
-        self.question_edit.editingFinished.connect(self._on_question_edit_finished)
+        self.question_edit.editing_finished.connect(self._on_question_edit_finished)
         self.kind_combo.activated.connect(self._on_kind_combo_activated)
         self.group_combo.activated.connect(self._on_group_combo_changed)
         self.group_combo.lineEdit().editingFinished.connect(self._on_group_combo_changed)
@@ -680,8 +694,7 @@ class CodebookView(QWidget):
         self._filling = True
         try:
             self.name_label.setText(var.name)
-            self.question_edit.setText(var.question)
-            self.question_edit.setCursorPosition(0)
+            self.question_edit.setPlainText(var.question)
             self.kind_combo.setCurrentIndex(self.kind_combo.findData(var.kind.value))
             self.kind_hint.setText(KIND_HINTS[var.kind])
             groups = sorted(self.codebook().groups())
@@ -708,6 +721,7 @@ class CodebookView(QWidget):
             self.missing_table.setRowCount(0)
             for code, reason in var.missing_codes.items():
                 self._add_missing_row(code, reason)
+            self._update_missing_height()
             numeric = var.kind in (Kind.NUMERIC, Kind.RANKING)
             self.range_section.setVisible(numeric)
             lo, hi = var.range if var.range is not None else (None, None)
@@ -724,7 +738,7 @@ class CodebookView(QWidget):
 
     def _on_question_edit_finished(self) -> None:
         var = self.current_variable()
-        text = self.question_edit.text().strip()
+        text = " ".join(self.question_edit.toPlainText().split())
         if self._filling or var is None or text == var.question:
             return
         self.change_variable(
@@ -828,6 +842,13 @@ class CodebookView(QWidget):
         combo.activated.connect(self._on_missing_table_changed)
         self.missing_table.setCellWidget(row, 1, combo)
 
+    def _update_missing_height(self) -> None:
+        # As tall as its rows (at least two), so an empty table does not fill the pane.
+        table = self.missing_table
+        rows = max(2, table.rowCount())
+        row_h = table.verticalHeader().defaultSectionSize()
+        table.setFixedHeight(table.horizontalHeader().height() + rows * row_h + 4)
+
     def missing_codes_in_table(self) -> dict[str, MissingReason]:
         out: dict[str, MissingReason] = {}
         for row in range(self.missing_table.rowCount()):
@@ -855,6 +876,7 @@ class CodebookView(QWidget):
     def _on_missing_add_button_clicked(self) -> None:
         self._filling = True
         self._add_missing_row("", MissingReason.DECLINED)
+        self._update_missing_height()
         self._filling = False
         row = self.missing_table.rowCount() - 1
         self.missing_table.setCurrentCell(row, 0)

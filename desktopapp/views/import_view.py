@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import json
 from collections import Counter
 from pathlib import Path
 from typing import Any
@@ -12,6 +11,7 @@ from PySide6.QtWidgets import (
     QAbstractItemView,
     QFileDialog,
     QFormLayout,
+    QGridLayout,
     QHBoxLayout,
     QLabel,
     QPushButton,
@@ -21,7 +21,8 @@ from PySide6.QtWidgets import (
 )
 
 from core.project import Changes
-from desktopapp.import_dialog import FrameModel
+from desktopapp.icons import kind_icon
+from desktopapp.import_dialog import FrameModel, fit_columns
 from desktopapp.project_tree import NodeType, TreeNode
 from desktopapp.undo import local_time
 from desktopapp.views import ViewContext, muted_label, section_label, title_label
@@ -33,19 +34,22 @@ def register(registry: Any) -> None:
 
 
 def report_lines(report: dict[str, Any]) -> list[str]:
-    """The import report as short lines: ``key: value``, with nested values kept compact."""
-    lines = []
-    for key, value in report.items():
-        name = str(key).replace("_", " ").capitalize()
-        if isinstance(value, dict | list):
-            if not value:
-                continue
-            text = json.dumps(value, ensure_ascii=False, default=str)
-            if len(text) > 160:
-                text = text[:157] + "…"
-        else:
-            text = str(value)
-        lines.append(f"{name}: {text}")
+    """What the import decided, as plain sentences for the evaluator.
+
+    The reader and the import write their own sentences into ``notes``; the column matching
+    and the personal-data marks are spelled out here. Technical keys are left to the CLI.
+    """
+    lines = [str(note) for note in report.get("notes", []) if str(note).strip()]
+    for item in report.get("renamed_columns", []) or []:
+        if isinstance(item, dict) and "from" in item and "to" in item:
+            lines.append(f"The column {item['from']} was matched to {item['to']}.")
+    personal = report.get("personal_variables") or []
+    if personal:
+        lines.append(
+            "Marked as personal data (left out of exports unless included on purpose): "
+            + ", ".join(map(str, personal))
+            + "."
+        )
     return lines
 
 
@@ -94,6 +98,11 @@ class ImportView(QWidget):
         facts.setLabelAlignment(Qt.AlignmentFlag.AlignRight)
         facts.addRow("Imported from", _selectable(Path(wave.source_name).name))
         facts.addRow("Imported on", QLabel(local_time(wave.created)))
+        report = wave.import_report
+        if report.get("sheet"):
+            facts.addRow("Sheet", QLabel(str(report["sheet"])))
+        if report.get("header_rows") is not None:
+            facts.addRow("Header rows", QLabel(str(report["header_rows"])))
         facts.addRow("Respondents (rows)", QLabel(f"{wave.n_rows:,}"))
         facts.addRow("Columns", QLabel(f"{wave.n_columns:,}"))
         fingerprint = _selectable(wave.source_sha256)
@@ -102,9 +111,9 @@ class ImportView(QWidget):
             "fingerprint, so it shows which export the figures came from."
         )
         facts.addRow("Fingerprint (SHA-256)", fingerprint)
-        notes = report_lines(wave.import_report)
+        notes = report_lines(report)
         if notes:
-            notes_label = QLabel("\n".join(notes))
+            notes_label = QLabel("\n".join(f"• {line}" for line in notes))
             notes_label.setWordWrap(True)
             notes_label.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
             facts.addRow("Import notes", notes_label)
@@ -124,6 +133,7 @@ class ImportView(QWidget):
         table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
         table.horizontalHeader().setDefaultSectionSize(110)
         table.verticalHeader().setDefaultSectionSize(22)
+        fit_columns(table)
         self.raw_table = table
         self._layout.addWidget(table, 1)
 
@@ -157,7 +167,11 @@ class ImportView(QWidget):
                 f"{Path(wave.source_name).name}"
             )
             link.setFlat(True)
-            link.setStyleSheet("QPushButton { text-align: left; padding: 4px 0; }")
+            link.setCursor(Qt.CursorShape.PointingHandCursor)
+            link.setStyleSheet(
+                "QPushButton { text-align: left; padding: 4px 0; border: none; color: #0b5a8c; }"
+                "QPushButton:hover { text-decoration: underline; }"
+            )
             link.clicked.connect(
                 lambda _c=False, w=wave: self._context.select_requested(
                     NodeType.WAVE, w.instrument_id, w.id
@@ -167,12 +181,44 @@ class ImportView(QWidget):
         self._layout.addSpacing(12)
         self._layout.addWidget(section_label("Codebook"))
         codebook = project.codebook(inst.id)
-        counts = Counter(var.kind.label for var in codebook)
+        counts = Counter(var.kind for var in codebook)
         if counts:
-            summary = ", ".join(f"{n} {label.lower()}" for label, n in counts.most_common())
-            self._layout.addWidget(QLabel(f"{len(codebook)} variables: {summary}."))
+            grid = QGridLayout()
+            grid.setHorizontalSpacing(10)
+            grid.setColumnStretch(3, 1)
+            for row, (kind, n) in enumerate(counts.most_common()):
+                icon = QLabel()
+                icon.setPixmap(kind_icon(kind).pixmap(16, 16))
+                count = QLabel(f"{n:,}")
+                count.setAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+                count.setMinimumWidth(28)
+                grid.addWidget(count, row, 0)
+                grid.addWidget(icon, row, 1)
+                grid.addWidget(QLabel(kind.label), row, 2)
+            total = QLabel(f"<b>{len(codebook):,}</b>")
+            total.setAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+            grid.addWidget(total, len(counts), 0)
+            grid.addWidget(QLabel("<b>variables in all</b>"), len(counts), 1, 1, 2)
+            self._layout.addLayout(grid)
+            personal = [v.name for v in codebook if v.personal]
+            self._layout.addWidget(
+                muted_label(
+                    "Marked as personal data: " + ", ".join(personal) + "."
+                    if personal
+                    else "No variable is marked as personal data."
+                )
+            )
         else:
             self._layout.addWidget(muted_label("The codebook is empty."))
+        open_codebook = QPushButton("Open the codebook")
+        open_codebook.setObjectName("openCodebookButton")
+        open_codebook.clicked.connect(
+            lambda: self._context.select_requested(NodeType.CODEBOOK, inst.id, None)
+        )
+        row = QHBoxLayout()
+        row.addWidget(open_codebook)
+        row.addStretch(1)
+        self._layout.addLayout(row)
         self._layout.addStretch(1)
 
     # ------------------------------------------------------------------ slots

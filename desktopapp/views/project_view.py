@@ -12,6 +12,7 @@ from PySide6.QtWidgets import (
     QLabel,
     QPushButton,
     QScrollArea,
+    QSizePolicy,
     QVBoxLayout,
     QWidget,
 )
@@ -72,12 +73,15 @@ class ProjectView(QWidget):
         scroll.setWidget(left_widget)
 
         right = QVBoxLayout()
-        right.addWidget(section_label("What was changed"))
-        right.addWidget(
-            muted_label(
-                "Newest first. Edit ▸ Undo takes back the newest step that is not undone yet."
-            )
+        right.setSpacing(6)
+        history_title = section_label("What was changed")
+        history_hint = muted_label(
+            "Newest first. Edit ▸ Undo takes back the newest step that is not undone yet."
         )
+        for label in (history_title, history_hint):
+            # Fixed height: the list below takes all the room that is left.
+            label.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Fixed)
+            right.addWidget(label)
         right.addWidget(self.history, 1)
 
         layout = QHBoxLayout(self)
@@ -127,12 +131,15 @@ class ProjectView(QWidget):
             for wave in waves:
                 line = QLabel(
                     f"Wave {_escape(wave.label)}: {wave.n_rows:,} respondents, "
-                    f"{wave.n_columns} columns, from {_escape(Path(wave.source_name).name)} "
-                    f"(imported {local_time(wave.created)})"
+                    f"{wave.n_columns} columns"
                 )
-                line.setWordWrap(True)
                 line.setContentsMargins(16, 0, 0, 0)
+                source = muted_label(
+                    f"from {Path(wave.source_name).name}, imported {local_time(wave.created)}"
+                )
+                source.setContentsMargins(16, 0, 0, 4)
                 self._data_box.addWidget(line)
+                self._data_box.addWidget(source)
             self._data_box.addSpacing(8)
 
     def _on_import_button_clicked(self) -> None:
