@@ -5,14 +5,19 @@ from __future__ import annotations
 from pathlib import Path
 
 import numpy as np
+import pandas as pd
 import pytest
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 from matplotlib.image import AxesImage
 
 from core import charts_missing as cm
+from core.codebook import Codebook, Variable
 from core.errors import PlaincountError
+from core.kinds import Kind
+from core.ledger import Action, Decision, record
 from core.missing import dropoff, item_variables
+from core.project import Project
 from core.working import working_data
 from tests.core.test_missing import synthetic_project
 
@@ -123,3 +128,41 @@ def test_module_uses_no_pyplot():
     source = Path(cm.__file__).read_text(encoding="utf-8")
     assert "import matplotlib.pyplot" not in source
     assert "from matplotlib import pyplot" not in source
+
+
+def test_every_reason_gets_its_own_palette_colour(tmp_path):
+    book = Codebook(
+        [
+            Variable(
+                "q",
+                kind=Kind.NUMERIC,
+                missing_codes={"-1": "declined", "-2": "not_applicable", "-3": "dont_know"},
+            ),
+            Variable("r", kind=Kind.NUMERIC),
+        ]
+    )
+    raw = pd.DataFrame({"q": ["1", "-1", "-2", "-3", None, "x"], "r": ["1"] * 6})
+    project = Project.create(tmp_path / "r.plaincount")
+    try:
+        inst = project.add_instrument("R", book)
+        wave = project.add_wave(inst.id, "1", "r.csv", b"r", raw)
+        record(project, wave.id, [Decision(Action.SET_MISSING, "checked", variables=["r"], row=0)])
+        fig = cm.make_missing_figure(working_data(project, wave.id), "matrix")
+        legend = fig.legends[0]
+        labels = [t.get_text().split("\n")[0] for t in legend.get_texts()]
+        colours = [cm.palette_hex(h.get_facecolor()) for h in legend.legend_handles]
+        assert labels == [
+            "Answered",
+            "Skipped (left blank)",
+            "Declined to answer",
+            "Not applicable",
+            "Don't know",
+            "Set missing in cleaning",
+            "Not a valid answer",
+        ]
+        assert colours[1:] == [cm.REASON_COLOURS[r] for r in cm.REASONS]
+        assert len(set(colours[1:])) == 6 and set(colours[1:]) <= PALETTE
+        image = next(a for a in fig.axes[0].get_children() if isinstance(a, AxesImage))
+        assert sorted(np.unique(np.asarray(image.get_array())).tolist()) == list(range(7))
+    finally:
+        project.close()
