@@ -245,7 +245,6 @@ class Project:
         try:
             conn = sqlite3.connect(path, isolation_level=None, check_same_thread=False, timeout=0.2)
             conn.execute("PRAGMA locking_mode = EXCLUSIVE")
-            conn.execute("PRAGMA journal_mode = WAL")
             conn.execute("PRAGMA synchronous = NORMAL")
             conn.execute("PRAGMA foreign_keys = ON")
             # Take the write lock now and keep it: a second process is refused at once.
@@ -268,6 +267,9 @@ class Project:
                     f"this program reads up to {SCHEMA_VERSION}). Update Plaincount to open "
                     "it; the file has not been changed."
                 )
+            # Only now switch to WAL: turning it on rewrites the file header, and a file that
+            # is not ours (or is too new) must be left byte for byte as it was.
+            conn.execute("PRAGMA journal_mode = WAL")
             while version < SCHEMA_VERSION:
                 with _tx(conn):
                     MIGRATIONS[version](conn)
