@@ -445,3 +445,29 @@ def test_failed_build_leaves_no_project(written, tmp_path):
     assert sorted(p.name for p in tmp_path.iterdir()) == sorted(
         [*demo.FILE_NAMES.values(), demo.MANIFEST_NAME]
     )
+
+
+def test_demo_project_codebook_matches_the_expected_one(project_folder):
+    """Import inference plus the demo settings give the codebook the manifest expects."""
+    from core.project import Project
+
+    folder, _ = project_folder
+    manifest = json.loads((folder / demo.MANIFEST_NAME).read_text(encoding="utf-8"))
+    with Project.open(folder / demo.PROJECT_NAME) as project:
+        cb = project.codebook(project.instruments()[0].id)
+    wrong = []
+    for e in manifest["expected_codebook"]:
+        var = cb[e["name"]]
+        if str(var.kind) != e["kind"]:
+            wrong.append((e["name"], "kind", str(var.kind)))
+        if e["kind"] in ("likert", "ordinal") and list(var.levels) != e["levels"]:
+            wrong.append((e["name"], "levels", var.levels))
+        if e["kind"] in ("categorical", "multiselect") and set(var.levels) != set(e["levels"]):
+            wrong.append((e["name"], "levels", var.levels))
+        if {k: str(r) for k, r in var.missing_codes.items()} != e["missing_codes"]:
+            wrong.append((e["name"], "missing codes", var.missing_codes))
+        if var.keying != e["keying"]:
+            wrong.append((e["name"], "keying", var.keying))
+    assert wrong == []
+    groups = sorted(sorted(v.name for v in members) for members in cb.groups().values())
+    assert groups == sorted(sorted(m) for m in manifest["expected_groups"].values())
