@@ -235,8 +235,11 @@ class MainWindow(QMainWindow):
         project = self.project
         if project is None:
             return
+        self._pending_imports.clear()
         self.runner.cancel_all()
         self.runner.wait()
+        if self.import_dialog is not None:
+            self.import_dialog.done(0)  # its import, if any, has stopped above
         self._set_view(None)
         if self._on_core_changes in project.listeners:
             project.listeners.remove(self._on_core_changes)

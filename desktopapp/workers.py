@@ -20,7 +20,16 @@ import itertools
 from collections.abc import Callable
 from typing import Any
 
-from PySide6.QtCore import QObject, QRunnable, Qt, QThreadPool, QTimer, Signal
+from PySide6.QtCore import (
+    QCoreApplication,
+    QEvent,
+    QObject,
+    QRunnable,
+    Qt,
+    QThreadPool,
+    QTimer,
+    Signal,
+)
 from PySide6.QtWidgets import QProgressDialog, QWidget
 
 from core.progress import Cancelled, Progress
@@ -170,6 +179,8 @@ class BackgroundRunner(QObject):
     def wait(self, msecs: int = -1) -> bool:
         """Block until every queued call has finished (before closing a project)."""
         ok = self._writer.waitForDone(msecs) and self._readers.waitForDone(msecs)
+        # Deliver the finished calls' queued results now, while their receivers still exist.
+        QCoreApplication.sendPostedEvents(self, QEvent.Type.MetaCall)
         return bool(ok)
 
     def cancel_all(self) -> None:

@@ -217,3 +217,31 @@ def test_start_page_demo_button_opens_the_demo(window, qtbot):
     window.close_project()
     qtbot.mouseClick(window.start_page.demo_button, Qt.MouseButton.LeftButton)
     assert [w.label for w in window.project.waves()] == ["2026", "2027"]
+
+
+def test_closing_the_project_during_an_import_stops_it_cleanly(qtbot, tmp_path, monkeypatch):
+    window = MainWindow(synchronous=False)
+    qtbot.addWidget(window)
+    window.show()
+    path = tmp_path / "evaluation.plaincount"
+    assert window.new_project(path)
+    source = write_xlsx(tmp_path / "survey_2026.xlsx", rows=300)
+    window.request_import([source])
+    dialog = window.import_dialog
+    qtbot.waitUntil(lambda: dialog.import_button.isEnabled(), timeout=10000)
+    reached = threading.Event()
+    original = Progress.update
+
+    def slow_update(self, done, total, label=""):
+        if threading.current_thread() is not threading.main_thread():
+            reached.set()
+            threading.Event().wait(0.05)
+        return original(self, done, total, label)
+
+    monkeypatch.setattr(Progress, "update", slow_update)
+    dialog.start_import()
+    assert reached.wait(10)
+    window.close_project()  # Ctrl+W while the import runs
+    assert window.import_dialog is None and window.project is None
+    with Project.open(path) as project:
+        assert project.waves() == []
