@@ -66,21 +66,20 @@ def refresh_flags(
     working = working_data(project, wave_id)
     if not partial_ok:
         return project.cached(("flags", wave_id, full), lambda: check_run(working, full))
-    changed = set(changes.variables)
-    ident = working.codebook.identifier()
-    redo_duplicates = ident is not None and ident.name in changed
+    changed = frozenset(changes.variables)
     fresh = check_run(working, full, variables=changed)
-
-    def stale(f: Flag) -> bool:
-        if f.check in ("duplicate_id", "duplicate_row") and not redo_duplicates:
-            return False
-        return bool(set(f.variables) & changed) or (
-            f.check in ("duplicate_id", "duplicate_row") and redo_duplicates
-        )
-
-    kept = {f.key: f for f in previous.flags if not stale(f)}
-    kept.update({f.key: f for f in fresh.flags})
-    plain = [f if f.decided_by is None else _undecided(f) for f in kept.values()]
+    redone = {f.key for f in fresh.flags if f.check == "reversed_scale"}
+    # Duplicate checks always re-run (a correction can make two rows identical); other
+    # flags are stale when they name a changed variable. A battery re-run after a comment
+    # changed can repeat a flag that names only the battery: keep the fresh one.
+    kept = [
+        f
+        for f in previous.flags
+        if f.check not in ("duplicate_id", "duplicate_row")
+        and changed.isdisjoint(f.variables)
+        and not (f.check == "reversed_scale" and f.key in redone)
+    ]
+    plain = [f if f.decided_by is None else _undecided(f) for f in [*kept, *fresh.flags]]
     flags = sort_flags(mark_decided(plain, working.entries))
     notes = [n for n in previous.notes if not any(v in n for v in changed)] + fresh.notes
     return CheckRun(flags, list(dict.fromkeys(notes)), full)

@@ -95,7 +95,15 @@ def _decoded_with_ids(
         values, reasons = decode_table(codebook, raw)
         return values, reasons, respondent_ids(codebook, raw)
 
-    return project.memo(("decoded", wave_id, codebook_fingerprint(codebook)), compute)
+    return project.memo(("decoded", wave_id, _stored_digest(project, wave.instrument_id)), compute)
+
+
+def _stored_digest(project: Project, instrument_id: int) -> str:
+    """SHA-256 of the codebook text as stored: the same key as :func:`codebook_fingerprint`
+    gives (equal text, equal codebook) without serialising the codebook again on every
+    ledger version (which costs more than the rest of a one-decision refresh)."""
+    rows = project.query("SELECT codebook FROM instruments WHERE id = ?", (instrument_id,))
+    return hashlib.sha256(rows[0][0].encode("utf-8")).hexdigest() if rows else ""
 
 
 def decoded(project: Project, wave_id: int) -> tuple[pd.DataFrame, pd.DataFrame]:
@@ -197,14 +205,30 @@ def _apply_cell(
             levels = list(var.levels)
             values.iat[row, col] = levels[len(levels) - 1 - levels.index(current)]
         return
-    new_values, new_reasons = decode_variable(var, pd.Series([str(d.new_value)]))
-    value, reason = new_values.iloc[0], new_reasons.iloc[0]
+    value, reason = _decode_one(var, str(d.new_value))
     if not pd.isna(reason) and reason == "invalid":
         raise PlaincountError(
             f"{d.new_value!r} is not a valid answer for {var.name} ({var.kind.label.lower()})."
         )
     values.iat[row, col] = value
     reasons.iat[row, rcol] = reason if not pd.isna(reason) else None
+
+
+_DECODED_VALUES: dict[tuple[str, str], tuple[object, object]] = {}
+
+
+def _decode_one(var: Variable, text: str) -> tuple[object, object]:
+    """Decode one corrected value, memoised: replaying a long ledger decodes each distinct
+    (variable definition, text) once instead of once per decision and version."""
+    key = (repr(var), text)
+    hit = _DECODED_VALUES.get(key)
+    if hit is None:
+        new_values, new_reasons = decode_variable(var, pd.Series([text]))
+        hit = (new_values.iloc[0], new_reasons.iloc[0])
+        if len(_DECODED_VALUES) > 10_000:
+            _DECODED_VALUES.clear()
+        _DECODED_VALUES[key] = hit
+    return hit
 
 
 def _missing_for(column: pd.Series) -> object:

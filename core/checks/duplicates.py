@@ -8,6 +8,8 @@ evaluator confirms or changes.
 
 from __future__ import annotations
 
+import hashlib
+
 import numpy as np
 import pandas as pd
 
@@ -23,9 +25,8 @@ MIN_ANSWERED = 3  # all-blank rows are "identical" trivially; they are a missing
 def check(ctx: Context) -> list[Flag]:
     ident = ctx.working.codebook.identifier()
     names = [n for n in ctx.working.values.columns if ident is None or n != ident.name]
-    # A single-cell refresh keeps duplicate flags; a full run (and any exclusion) redoes them.
-    if ctx.only is not None and (ident is None or ident.name not in ctx.only):
-        return []
+    # Always run, also when refreshing after one decision: a correction can make two rows
+    # identical (or different). Column hashes of unedited columns are cached, so this is cheap.
     flags: list[Flag] = []
     if ident is not None and ident.name in ctx.working.values.columns:
         flags += _same_id(ctx, ident.name, names)
@@ -33,20 +34,48 @@ def check(ctx: Context) -> list[Flag]:
     return flags
 
 
-def row_hashes(values: pd.DataFrame, reasons: pd.DataFrame, names: list[str]) -> np.ndarray:
-    """One 64-bit hash per row of the decoded answers and missing reasons of ``names``."""
-    parts = {}
-    for name in names:
-        col = values[name]
-        if isinstance(col.dtype, pd.CategoricalDtype):
-            parts[name] = col.cat.codes.to_numpy()
-        elif pd.api.types.is_numeric_dtype(col) or pd.api.types.is_datetime64_any_dtype(col):
-            parts[name] = col
-        else:
-            parts[name] = col.map(lambda v: None if v is None else repr(v))
-        parts["~" + name] = reasons[name].cat.codes.to_numpy()
-    frame = pd.DataFrame(parts, index=values.index)
-    return pd.util.hash_pandas_object(frame, index=False).to_numpy()
+def column_hash(values: pd.Series, reasons: pd.Series) -> np.ndarray:
+    """A 64-bit hash per cell of one decoded column and its missing reason."""
+    if isinstance(values.dtype, pd.CategoricalDtype):
+        arr = values.cat.codes.to_numpy().astype(np.int64)
+    elif pd.api.types.is_datetime64_any_dtype(values):
+        arr = values.to_numpy(dtype="datetime64[ns]").view(np.int64)
+    elif pd.api.types.is_numeric_dtype(values):
+        arr = values.to_numpy(dtype=float, na_value=np.nan)
+    else:
+        arr = np.array([None if v is None else repr(v) for v in values], dtype=object)
+    h = pd.util.hash_array(arr)
+    codes = reasons.cat.codes.to_numpy().astype(np.int64)
+    return h * np.uint64(31) + pd.util.hash_array(codes)
+
+
+def _salt(name: str) -> np.uint64:
+    digest = hashlib.sha256(name.encode("utf-8")).digest()
+    return np.uint64(int.from_bytes(digest[:8], "little") | 1)
+
+
+def row_hashes(ctx: Context, names: list[str]) -> np.ndarray:
+    """One 64-bit hash per row over ``names`` (answers and missing reasons).
+
+    The row hash is a sum of salted column hashes (wrapping at 2**64), so the part from
+    columns no decision has changed is computed once and reused; only edited columns are
+    hashed again after a decision.
+    """
+    values, reasons = ctx.working.values, ctx.working.reasons
+
+    def combine(cols: list[str]) -> np.ndarray:
+        out = np.zeros(len(values), dtype=np.uint64)
+        with np.errstate(over="ignore"):
+            for name in cols:
+                out += column_hash(values[name], reasons[name]) * _salt(name)
+        return out
+
+    fixed = [n for n in names if n not in ctx.touched]
+    edited = [n for n in names if n in ctx.touched]
+    total = ctx.cached("row-hash", fixed, lambda: combine(fixed)).copy()
+    with np.errstate(over="ignore"):
+        total += combine(edited)
+    return total
 
 
 def _differing(ctx: Context, rows: list[int], names: list[str]) -> list[str]:
@@ -63,15 +92,24 @@ def _rows_text(rows: list[int]) -> str:
     return ", ".join(str(r + 1) for r in rows)
 
 
-def _same_id(ctx: Context, ident: str, names: list[str]) -> list[Flag]:
-    answered = ctx.working.reasons[ident].isna().to_numpy() & ctx.keep
+def _id_groups(ctx: Context, ident: str) -> list[list[int]]:
+    """Rows sharing an identifier (answered identifiers only), over every row."""
+    answered = ctx.working.reasons[ident].isna().to_numpy()
     ids = ctx.working.respondent_ids.to_numpy(dtype=object)
     positions = np.flatnonzero(answered)
-    series = pd.Series(ids[positions], index=positions)
+    series = pd.Series(ids[positions], index=positions, dtype=object)
     dup = series[series.duplicated(keep=False)]
+    return [[int(r) for r in group.index] for _, group in dup.groupby(dup, sort=False)]
+
+
+def _same_id(ctx: Context, ident: str, names: list[str]) -> list[Flag]:
+    groups = ctx.cached("id-groups", [ident], lambda: _id_groups(ctx, ident))
     flags: list[Flag] = []
-    for rid, group in dup.groupby(dup, sort=False):
-        rows = [int(r) for r in group.index]
+    for all_rows in groups:
+        rows = [r for r in all_rows if ctx.keep[r]]
+        if len(rows) < 2:
+            continue
+        rid = ctx.respondent(rows[0])
         differ = _differing(ctx, rows, names)
         latest = rows[-1]
         if differ:
@@ -113,12 +151,23 @@ def _same_answers(ctx: Context, names: list[str]) -> list[Flag]:
         return []
     values, reasons = ctx.working.values, ctx.working.reasons
     usable = [n for n in names if ctx.working.codebook[n].kind is not Kind.IDENTIFIER]
-    answered = reasons[usable].isna().sum(axis=1).to_numpy() >= MIN_ANSWERED
+
+    def count(cols: list[str]) -> np.ndarray:
+        out = np.zeros(len(values), dtype=np.int64)
+        for name in cols:
+            out += reasons[name].cat.codes.to_numpy() < 0
+        return out
+
+    fixed = [n for n in usable if n not in ctx.touched]
+    answered_n = ctx.cached("answered", fixed, lambda: count(fixed)) + count(
+        [n for n in usable if n in ctx.touched]
+    )
+    answered = answered_n >= MIN_ANSWERED
     keep = ctx.keep & answered
     positions = np.flatnonzero(keep)
     if len(positions) < 2:
         return []
-    hashes = pd.Series(row_hashes(values, reasons, usable)[positions], index=positions)
+    hashes = pd.Series(row_hashes(ctx, usable)[positions], index=positions)
     dup = hashes[hashes.duplicated(keep=False)]
     flags: list[Flag] = []
     for _, group in dup.groupby(dup, sort=False):

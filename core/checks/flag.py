@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import datetime as _dt
 import math
+import threading
+import weakref
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
@@ -145,6 +147,12 @@ def show_number(x: float) -> str:
     return f"{x:.4g}" if abs(x) < 1e6 else format_number(x)
 
 
+# Results computed from unedited columns, keyed on (kind, wave, codebook, columns) and
+# checked against the raw table object, so a closed project's entries are never reused.
+_COLUMN_CACHE: dict[tuple[Any, ...], tuple[weakref.ref, Any]] = {}
+_CACHE_LOCK = threading.Lock()
+
+
 @dataclass
 class Context:
     """What every check of one run shares: the working data, settings and which rows count.
@@ -166,6 +174,53 @@ class Context:
         self.keep = keep
         self._ids = self.working.respondent_ids.to_numpy(dtype=object)
         self._raw_texts: dict[str, np.ndarray] = {}
+
+    @property
+    def touched(self) -> frozenset[str]:
+        """Variables the ledger changed in some cell (their columns differ from decoding)."""
+        if not hasattr(self, "_touched"):
+            self._touched = frozenset(name for _, name in self.working.edits)
+        return self._touched
+
+    def cached(self, kind: str, names: Iterable[str], compute: Any) -> Any:
+        """Memoise ``compute()`` on columns no decision has changed.
+
+        Such columns are exactly the decoded raw table, which depends only on the raw table
+        and the codebook, so the result can be reused across ledger versions (a decision
+        elsewhere does not recompute it). Anything touching an edited column is computed
+        afresh.
+        """
+        names = tuple(names)
+        raw = self.working.raw
+        if raw is None or any(n in self.touched for n in names):
+            return compute()
+        key = (kind, self.working.wave_id, names, self._definitions(names))
+        with _CACHE_LOCK:
+            hit = _COLUMN_CACHE.get(key)
+            if hit is not None and hit[0]() is raw:
+                return hit[1]
+        value = compute()
+        with _CACHE_LOCK:
+            if len(_COLUMN_CACHE) > 4096:
+                _COLUMN_CACHE.clear()
+            _COLUMN_CACHE[key] = (weakref.ref(raw), value)
+        return value
+
+    def _definitions(self, names: tuple[str, ...]) -> tuple[str, ...]:
+        # A decoded column depends on its own codebook entry and, for one-column-per-option
+        # questions, on its group's entries; nothing else.
+        book = self.working.codebook
+        if not hasattr(self, "_groups"):
+            self._groups = book.groups()
+        out = []
+        for name in names:
+            var = book.get(name)
+            if var is None:
+                out.append(name)
+                continue
+            members = self._groups.get(var.group, [var]) if var.group else [var]
+            out.append("|".join(repr(m) for m in members))
+        return tuple(out)
 
     def wants(self, names: Iterable[str]) -> bool:
         """Whether a check over these variables belongs to this run."""

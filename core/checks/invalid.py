@@ -83,7 +83,9 @@ def check(ctx: Context) -> list[Flag]:
     for var in ctx.working.codebook:
         if var.name not in reasons.columns or not ctx.wants([var.name]):
             continue
-        bad = (reasons[var.name].to_numpy(dtype=object) == INVALID) & ctx.keep
+        column = reasons[var.name]
+        code = list(column.cat.categories).index(INVALID)
+        bad = (column.cat.codes.to_numpy() == code) & ctx.keep
         for row in np.flatnonzero(bad):
             text = ctx.raw_text(row, var.name)
             allowed = ""

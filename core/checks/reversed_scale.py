@@ -108,7 +108,13 @@ def check(ctx: Context) -> list[Flag]:
         if not comments:
             continue
         if tones is None:
-            tones = _comment_tones(ctx, comments)
+            # Reading every comment is the slow part; cached while no comment is edited.
+            every = ctx.cached(
+                "tone",
+                [c.name for c in comments],
+                lambda: _comment_tones(ctx, comments, everyone=True),
+            )
+            tones = {r: t for r, t in every.items() if ctx.keep[r]}
         keyed = np.where(negative, 1 - p, p)
         with np.errstate(invalid="ignore"):
             net = _row_mean(keyed)
@@ -161,12 +167,14 @@ def _row_mean(a: np.ndarray) -> np.ndarray:
     return out
 
 
-def _comment_tones(ctx: Context, comments: list[Variable]) -> dict:
-    """Row -> (tone, comment text shown, comment variables with words), rows with words."""
+def _comment_tones(ctx: Context, comments: list[Variable], everyone: bool = False) -> dict:
+    """Row -> (tone, comment text shown, comment variables with words), rows with words
+    (every row when ``everyone``, else rows not excluded)."""
     values = ctx.working.values
     texts = {c.name: values[c.name].to_numpy(dtype=object) for c in comments}
     out = {}
-    for row in np.flatnonzero(ctx.keep):
+    rows = np.arange(ctx.working.n_rows) if everyone else np.flatnonzero(ctx.keep)
+    for row in rows:
         parts, used = [], []
         for name, col in texts.items():
             text = col[row]

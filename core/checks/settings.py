@@ -181,6 +181,10 @@ def settings_for_wave(
     instrument filled in, as :func:`core.checks.run_checks` expects them."""
     from core.rules import active_rules  # local import: core.rules imports core.checks.flag
 
-    base = settings if settings is not None else load_settings(project)
-    wave = project.wave(wave_id)
-    return replace(base, rules=tuple(active_rules(project, wave.instrument_id)))
+    def compute() -> CheckSettings:
+        base = settings if settings is not None else load_settings(project)
+        wave = project.wave(wave_id)
+        return replace(base, rules=tuple(active_rules(project, wave.instrument_id)))
+
+    # Cached per project version: reading rules parses each against the codebook.
+    return project.cached(("check-settings", wave_id, settings), compute)
