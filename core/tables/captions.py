@@ -72,20 +72,36 @@ def short_title(text: str, limit: int = TITLE_LIMIT) -> str:
     return cut.rstrip(" ,;:-") + "…"
 
 
+def common_stem(questions: list[str]) -> str:
+    """The whole words that every question text of a group starts with ("" if none)."""
+    texts = [" ".join(q.split()) for q in questions if q and q.strip()]
+    if len(texts) < 2:
+        return ""
+    stem = texts[0]
+    for t in texts[1:]:
+        while not t.startswith(stem):
+            stem = stem[:-1]
+    if any(len(t) > len(stem) and t[len(stem)].isalnum() for t in texts):
+        stem = stem[: stem.rfind(" ") + 1] if " " in stem else ""  # end at a whole word
+    return stem
+
+
 def group_title(group: str, questions: list[str]) -> str:
     """A title for a question group: the words its items' question texts share, if any."""
-    texts = [" ".join(q.split()) for q in questions if q and q.strip()]
-    if len(texts) >= 2:
-        stem = texts[0]
-        for t in texts[1:]:
-            while not t.startswith(stem):
-                stem = stem[:-1]
-        if any(len(t) > len(stem) and t[len(stem)].isalnum() for t in texts):
-            stem = stem[: stem.rfind(" ") + 1] if " " in stem else ""  # end at a whole word
-        stem = stem.rstrip(" -–—:([")
-        if len(stem) >= 8:
-            return short_title(stem)
+    stem = common_stem(questions).rstrip(" -–—:([")
+    if len(stem) >= 8:
+        return short_title(stem)
     return group
+
+
+def item_label(question: str, stem: str, fallback: str) -> str:
+    """An item's own words, without the stem its group shares ("I felt welcome.")."""
+    text = " ".join((question or "").split())
+    if stem and text.startswith(stem) and len(text) > len(stem):
+        rest = text[len(stem) :].lstrip(" -–—:.?").strip()
+        if rest:
+            return short_title(rest)
+    return short_title(text) if text else fallback
 
 
 def base_line(n_valid: int, n_all: int, who: str = "Respondents who answered") -> str:

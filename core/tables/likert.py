@@ -15,7 +15,13 @@ import numpy as np
 
 from core.codebook import Variable
 from core.errors import TableError
-from core.tables.captions import base_line, group_title, short_title, suppression_note
+from core.tables.captions import (
+    base_line,
+    common_stem,
+    group_title,
+    item_label,
+    suppression_note,
+)
 from core.tables.context import (
     Context,
     breakdown,
@@ -189,6 +195,7 @@ def battery_table(ctx: Context, group: str) -> TableResult:
             "tabulate the items one by one."
         )
     names = [m.name for m in members]
+    stem = common_stem([m.question for m in members])
     counts = np.zeros((len(names), len(levels)), dtype=np.int64)
     for i, name in enumerate(names):
         codes = level_codes(members[i], ctx.values[name])
@@ -203,7 +210,7 @@ def battery_table(ctx: Context, group: str) -> TableResult:
     hidden_row = sup.row_totals
     data: dict[str, Any] = {
         "items": [names[i] for i in order],
-        "item_labels": {m.name: short_title(m.label) for m in members},
+        "item_labels": {m.name: item_label(m.question, stem, m.name) for m in members},
         "levels": levels,
         "counts": {},
         "percents": {},

@@ -8,7 +8,14 @@ import pytest
 from core.codebook import Variable
 from core.ledger import Action, Decision, record
 from core.tables.build import compute_table
-from core.tables.captions import Notes, base_line, group_title, short_title
+from core.tables.captions import (
+    Notes,
+    base_line,
+    common_stem,
+    group_title,
+    item_label,
+    short_title,
+)
 from core.tables.spec import TableSpec
 from tests.core.tables_helpers import make_project
 
@@ -34,6 +41,15 @@ def test_base_line_and_group_title():
         == "Rank the supports"
     )
     assert group_title("agree", ["The course was useful", "Tools were good"]) == "agree"
+
+
+def test_item_labels_leave_out_the_shared_stem():
+    qs = ["How much do you agree? - I felt welcome.", "How much do you agree? - Tools were good."]
+    stem = common_stem(qs)
+    assert stem == "How much do you agree? - "
+    assert item_label(qs[0], stem, "a1") == "I felt welcome."
+    assert item_label("", stem, "a1") == "a1"
+    assert item_label("Other wording", stem, "a1") == "Other wording"
 
 
 def test_notes_keep_their_order():
