@@ -63,12 +63,6 @@ def _demo(args: argparse.Namespace) -> int:
         rows = manifest["waves"][label]["rows"]
         print(f"  wave {label}: {Path(path).name} ({rows} responses)")
     print(f"  {MANIFEST_NAME}: {len(manifest['problems'])} planted problems, listed for checking")
-    print(f"  {project_path.name}: demo project with wave(s) {', '.join(waves)}")
-    missing = [label for label in FILE_NAMES if label not in waves]
-    if missing:
-        print(
-            f"  Wave(s) {', '.join(missing)} are not in the project yet: import them with "
-            "plaincount-cli import."
-        )
+    print(f"  {project_path.name}: demo project with waves {', '.join(waves)}")
     print("Every name, number and answer in these files is invented.")
     return 0
