@@ -100,6 +100,9 @@ def chart_images(
     figure.savefig(png, format="png", dpi=dpi)
     if not svg:
         return png.getvalue(), None
+    # The PNG pass has laid the figure out; keep that layout instead of solving it again
+    # (about a third of the SVG's cost, and the two files then match exactly).
+    figure.set_layout_engine("none")
     vector = io.BytesIO()
     figure.savefig(vector, format="svg", dpi=dpi)
     return png.getvalue(), vector.getvalue()
