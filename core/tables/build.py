@@ -9,6 +9,7 @@ choose-all-that-apply questions the share choosing each option.
 from __future__ import annotations
 
 import json
+from dataclasses import replace
 from typing import Any
 
 from core.codebook import Codebook, Variable
@@ -36,7 +37,16 @@ def compute_table(project: Project, spec: TableSpec) -> TableResult:
     """
     wave = resolve_wave(project, spec)
     key = ("table", wave.id, json.dumps(spec.to_json(), sort_keys=True, default=str))
-    return project.cached(key, lambda: _compute(project, spec, wave))
+    cached = project.cached(key, lambda: _compute(project, spec, wave))
+    # A fresh result object each time: a caller may attach a finding or edit notes without
+    # changing the cached copy other views share.
+    return replace(
+        cached,
+        notes=list(cached.notes),
+        rows=list(cached.rows),
+        row_roles=list(cached.row_roles),
+        data=dict(cached.data),
+    )
 
 
 def _compute(project: Project, spec: TableSpec, wave: Any) -> TableResult:
