@@ -28,6 +28,10 @@ from core.treatments import apply_treatment, treatment_notes
 from core.working import WorkingData, working_data
 
 
+# Table types that can show missing answers as rows (or columns of a cross-tabulation).
+ROWS_FOR_MISSING = ("frequency", "likert", "crosstab")
+
+
 def compute_table(project: Project, spec: TableSpec) -> TableResult:
     """The table ``spec`` asks for, from the current working data of its wave.
 
@@ -149,7 +153,15 @@ def table_for_working(
     if spec.by and " — by " not in result.title:
         result.title = by_title(ctx, result.title)
     notes = ctx.notes
-    notes.treatment = treatment_notes(treated, codebook) + notes.treatment
+    if treated.show_missing and result.table_type not in ROWS_FOR_MISSING:
+        # Statistics, batteries, rankings and choices have no answer rows to add missing
+        # ones to: they count those who answered, and the notes say how many did not.
+        notes.treatment = [
+            "Missing data: this kind of table has no rows for missing answers, so it counts "
+            "everyone who answered (available cases); the notes give the missing counts."
+        ] + notes.treatment
+    else:
+        notes.treatment = treatment_notes(treated, codebook) + notes.treatment
     notes.cleaning = list(settings.get("cleaning_notes") or [])
     notes.source.append(source_note(ctx.instrument, ctx.wave))
     if spec.by and GROUP_CAUTION not in notes.cautions:
