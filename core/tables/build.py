@@ -27,7 +27,6 @@ from core.tables.spec import TableSpec
 from core.treatments import apply_treatment, treatment_notes
 from core.working import WorkingData, working_data
 
-
 # Table types that can show missing answers as rows (or columns of a cross-tabulation).
 ROWS_FOR_MISSING = ("frequency", "likert", "crosstab")
 

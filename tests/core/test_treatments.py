@@ -117,3 +117,11 @@ def test_missing_shown_as_rows_by_reason_or_combined(project):
     cross = compute_table(p, TableSpec("sat", by=("site",), treatment="show-missing", min_cell=0))
     assert sum(cross.data["group_bases"].values()) == 40
     assert sum(cross.data["missing_counts"]["North"].values()) == 6  # rows 0-5 are North
+
+
+def test_show_missing_on_statistics_says_what_it_did(project):
+    p, _ = project
+    result = compute_table(p, TableSpec("hours", treatment="show-missing", min_cell=0))
+    assert result.n_valid == 35
+    assert any("no rows for missing answers" in n for n in result.notes)
+    assert not any("percentages are of all respondents" in n for n in result.notes)
