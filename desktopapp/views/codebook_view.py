@@ -140,12 +140,8 @@ def frequencies(var: Variable, values: pd.Series, reasons: pd.Series) -> Frequen
                 out.bars = [(_num(v), int(n)) for v, n in counts.items()]
                 out.title = "Answers"
             else:
-                hist, edges = np.histogram(nums, bins=8)
-                out.bars = [
-                    (f"{_num(edges[i])} to {_num(edges[i + 1])}", int(hist[i]))
-                    for i in range(len(hist))
-                ]
-                out.title = "Answers in eight equal-width bins"
+                out.bars = binned(nums)
+                out.title = "Answers in equal-width groups"
     elif kind is Kind.DATE:
         dates = pd.to_datetime(answered)
         if len(dates):
@@ -157,7 +153,13 @@ def frequencies(var: Variable, values: pd.Series, reasons: pd.Series) -> Frequen
         texts = answered.astype(str)
         distinct = texts.nunique()
         out.facts = [f"{distinct:,} different answers"]
-        if kind is not Kind.IDENTIFIER:
+        if kind is Kind.IDENTIFIER:
+            repeated = int((texts.value_counts() > 1).sum())
+            if repeated:
+                out.facts.append(
+                    f"{repeated:,} identifier{'s' if repeated != 1 else ''} appear more than once"
+                )
+        else:
             top = texts.value_counts().head(5)
             out.bars = [(str(t), int(n)) for t, n in top.items()]
             out.title = "Most frequent answers"
@@ -167,6 +169,39 @@ def frequencies(var: Variable, values: pd.Series, reasons: pd.Series) -> Frequen
         if n:
             label = reason.label if isinstance(reason, MissingReason) else "Not a valid answer"
             out.missing.append((label, n))
+    return out
+
+
+def nice_step(span: float, groups: int = 8) -> float:
+    """The smallest 1, 2, 2.5 or 5 times a power of ten that covers ``span`` in ``groups``."""
+    if span <= 0:
+        return 1.0
+    raw = span / groups
+    power = 10 ** np.floor(np.log10(raw))
+    for factor in (1, 2, 2.5, 5, 10):
+        if factor * power >= raw:
+            return float(factor * power)
+    return float(10 * power)
+
+
+def binned(nums: np.ndarray, groups: int = 8) -> list[tuple[str, int]]:
+    """Counts in equal-width groups with round edges (each group includes its lower edge)."""
+    lo, hi = float(np.min(nums)), float(np.max(nums))
+    whole = bool(np.all(np.mod(nums, 1) == 0))
+    step = nice_step(hi - lo, groups)
+    if whole:
+        step = max(1.0, float(np.ceil(step)))
+    start = np.floor(lo / step) * step
+    n = int(np.floor((hi - start) / step)) + 1
+    index = np.floor((nums - start) / step).astype(int)
+    counts = np.bincount(index, minlength=n)
+    out = []
+    for i in range(n):
+        a, b = start + i * step, start + (i + 1) * step
+        label = f"{_num(a)} to {_num(b - 1)}" if whole else f"{_num(a)} to under {_num(b)}"
+        if whole and step == 1:
+            label = _num(a)
+        out.append((label, int(counts[i])))
     return out
 
 
@@ -269,13 +304,34 @@ class LevelListWidget(QListWidget):
             QAbstractItemView.EditTrigger.DoubleClicked
             | QAbstractItemView.EditTrigger.EditKeyPressed
         )
+        self._shown: list[str] = []
+        self.model().rowsMoved.connect(self._on_model_rows_moved)
 
     def labels(self) -> list[str]:
         return [self.item(i).data(NAME_ROLE) for i in range(self.count())]
 
+    def set_levels(self, levels: tuple[str, ...]) -> None:
+        self.clear()
+        for level in levels:
+            item = QListWidgetItem(level)
+            item.setData(NAME_ROLE, level)
+            item.setFlags(item.flags() | Qt.ItemFlag.ItemIsEditable | Qt.ItemFlag.ItemIsDragEnabled)
+            self.addItem(item)
+        self._shown = self.labels()
+
     def dropEvent(self, event: Any) -> None:  # noqa: N802 - Qt override
         super().dropEvent(event)
-        self.order_changed.emit(self.labels())
+        self._emit_if_moved()
+
+    def _on_model_rows_moved(self, *_args: Any) -> None:
+        self._emit_if_moved()
+
+    def _emit_if_moved(self) -> None:
+        # A drag may report itself both as a drop and as a row move; tell the view once.
+        order = self.labels()
+        if order != self._shown:
+            self._shown = order
+            self.order_changed.emit(order)
 
 
 class CodebookView(QWidget):
@@ -706,14 +762,7 @@ class CodebookView(QWidget):
                 var.kind is Kind.MULTISELECT and bool(var.delimiter)
             )
             self.levels_section.setVisible(show_levels)
-            self.level_list.clear()
-            for level in var.levels:
-                item = QListWidgetItem(level)
-                item.setData(NAME_ROLE, level)
-                item.setFlags(
-                    item.flags() | Qt.ItemFlag.ItemIsEditable | Qt.ItemFlag.ItemIsDragEnabled
-                )
-                self.level_list.addItem(item)
+            self.level_list.set_levels(var.levels)
             rows = max(3, min(8, len(var.levels)))
             self.level_list.setFixedHeight(
                 rows * self.level_list.sizeHintForRow(0) + 8 if var.levels else 60

@@ -49,6 +49,11 @@ def test_range_edit_undo_redo(window, view, small_project_path):
         history = project.history()
         assert [h["label"] for h in history] == ["Set the plausible values of age to 16–70"]
         assert project.undo_label() == "Set the plausible values of age to 16–70"
+    window.open_project(small_project_path)
+    assert window.view.history.labels() == ["Set the plausible values of age to 16–70"]
+    assert window.undo.undo_action.text() == "Undo set the plausible values of age to 16–70"
+    window.undo.undo_action.trigger()  # and it can still be undone after reopening
+    assert _codebook(window)["age"].range == (18.0, 64.0)
 
 
 def test_history_list_shows_the_steps_newest_first(window, view):
@@ -142,3 +147,32 @@ def test_rename_level_maps_the_raw_text():
     assert pd.Series(["HVAC"]).map(lambda t: renamed.value_labels.get(t, t)).iloc[0] in (
         renamed.levels
     )
+
+
+def test_numeric_groups_match_numpy_histogram():
+    import numpy as np
+
+    # statsmodels' anes96 ships real respondent ages (an open dataset, METHODS.md section 16).
+    from statsmodels.datasets import anes96
+
+    from desktopapp.views.codebook_view import binned, nice_step
+
+    ages = anes96.load_pandas().data["age"].to_numpy(dtype=float)
+    groups = binned(ages)
+    step = nice_step(ages.max() - ages.min())
+    assert step == 10.0  # ages 19 to 91 in eight groups: a span of 72 / 8 = 9, rounded up to 10
+    edges = np.arange(10.0, 100.0 + 1, step)
+    reference, _ = np.histogram(ages, bins=edges)
+    assert [n for _, n in groups] == reference.tolist()
+    assert groups[0][0] == "10 to 19" and sum(n for _, n in groups) == len(ages) == 944
+
+
+def test_dragging_an_answer_reorders_it(window, view):
+    from PySide6.QtCore import QModelIndex
+
+    view.select_variable("track")
+    model = view.level_list.model()
+    # What an internal drag-and-drop does to the list's model: move "HVAC" below "Welding".
+    assert model.moveRow(QModelIndex(), 0, QModelIndex(), 3)
+    assert _codebook(window)["track"].levels == ("Solar", "Welding", "HVAC")
+    assert [h["label"] for h in window.project.history()] == ["Reorder the answers of track"]
