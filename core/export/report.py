@@ -162,20 +162,41 @@ def export_outline(
                 progress.check()
             done += 1
         progress.check()
-        final = []
-        for path in written:
-            dest = out / path.name
-            os.replace(path, dest)
-            final.append(dest)
-        progress.update(steps, steps, "Done")
     except OSError as exc:
+        shutil.rmtree(staging, ignore_errors=True)
         raise PlaincountError(
             f"The export could not be written to {out}: {exc.strerror or exc}. Nothing was "
             "changed in that folder."
         ) from None
+    except BaseException:
+        shutil.rmtree(staging, ignore_errors=True)
+        raise
+    try:
+        final = _move_into_place(written, out)
     finally:
         shutil.rmtree(staging, ignore_errors=True)
+    progress.update(steps, steps, "Done")
     return ExportFiles(final, warnings)
+
+
+def _move_into_place(written: list[Path], out: Path) -> list[Path]:
+    """Move finished files into ``out``; say exactly which could not replace an old copy."""
+    final, blocked = [], []
+    for path in written:
+        dest = out / path.name
+        try:
+            os.replace(path, dest)
+        except OSError:  # typically the old copy is open in another program
+            blocked.append(path.name)
+            continue
+        final.append(dest)
+    if blocked:
+        raise PlaincountError(
+            f"{', '.join(blocked)} could not be replaced in {out}; the file may be open in "
+            "another program. Close it and export again. "
+            + ("The other files were written." if final else "")
+        )
+    return final
 
 
 def _entries(

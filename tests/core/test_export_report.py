@@ -259,6 +259,16 @@ def test_a_result_that_cannot_be_computed_is_left_out_with_a_warning(tmp_path):
     project.close()
 
 
+def test_a_file_that_cannot_be_replaced_is_named(tmp_path):
+    project = make_project(tmp_path)
+    outline.keep(project, TableSpec("track"), title="Track")
+    (tmp_path / "out" / "report.html").mkdir(parents=True)  # stands in for a locked file
+    with pytest.raises(PlaincountError, match=r"report\.html could not be replaced"):
+        export_outline(project, tmp_path / "out", ["html", "csv"])
+    assert sorted(p.name for p in (tmp_path / "out").iterdir()) == ["01-track.csv", "report.html"]
+    project.close()
+
+
 def test_plain_errors(tmp_path):
     project = make_project(tmp_path)
     with pytest.raises(PlaincountError, match="outline is empty"):
