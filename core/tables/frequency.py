@@ -103,8 +103,10 @@ def frequency_table(ctx: Context, name: str) -> TableResult:
     if with_cum:
         columns.append("Cumulative %")
         cum = np.cumsum(c.counts)
-        # A cumulative percentage next to a hidden count would reveal it by subtraction.
-        cum_hidden = hidden | np.concatenate([[False], hidden[:-1]])
+        # A running total reveals part of the hidden counts when it covers some of them but
+        # not all (their sum is known anyway from the total): hide it exactly then.
+        before = np.cumsum(hidden)
+        cum_hidden = (before > 0) & (before < hidden.sum())
         data["cumulative"] = {
             lv: (None if h else pct(x, c.n_valid)) for lv, x, h in zip(c.levels, cum, cum_hidden)
         }

@@ -136,3 +136,19 @@ def test_excluded_respondents_and_cleaning_are_in_the_notes(tmp_path):
         assert result.base == "Respondents who answered, n = 18 of 19"
         assert result.data["missing"] == {"set_missing": None}  # one cell: hidden
         assert any("Cleaning" in n or "clean" in n.lower() for n in result.notes)
+
+
+def test_cumulative_percent_never_reveals_a_hidden_count(tmp_path):
+    # Invented: levels A..E with counts 20, 3, 15, 2, 30 (3 and 2 hidden).
+    counts = {"A": 20, "B": 3, "C": 15, "D": 2, "E": 30}
+    frame = pd.DataFrame({"band": [k for k, n in counts.items() for _ in range(n)]})
+    var = Variable("band", "Band", "ordinal", levels=list(counts))
+    with make_project(tmp_path, frame, [var]) as p:
+        result = compute_table(p, TableSpec("band"))
+        assert result.data["counts"] == {"A": 20, "B": None, "C": 15, "D": None, "E": 30}
+        cum = result.data["cumulative"]
+        # Shown: before the first hidden count and after the last one; hidden in between,
+        # where "B" would be 100 * cum(B) / 70 - 20.
+        assert cum["A"] == pytest.approx(20 / 70 * 100) and cum["E"] == pytest.approx(100)
+        assert cum["B"] is None and cum["C"] is None
+        assert cum["D"] == pytest.approx(40 / 70 * 100)
