@@ -1166,18 +1166,14 @@ def build_demo_project(
             instrument_id = first.wave.instrument_id
             codebook, _changed = project.codebook(instrument_id).applied(CODEBOOK_SETTINGS)
             project.set_codebook(instrument_id, codebook, label="Apply the demo codebook settings")
-            # The 2027 export renamed one column and reworded one scale label: map both onto
-            # this codebook so the two waves line up.
+            # The 2027 export renamed one column and reworded one scale label; the import
+            # matches both to this codebook by itself (core.wavematch).
             import_file(
                 project,
                 folder / FILE_NAMES["2027"],
                 instrument=INSTRUMENT,
                 wave="2027",
                 header_rows=2,
-                column_map={new: old for old, new in RENAMED_2027.items()},
-                level_maps={
-                    item: {new: old for old, new in REWORDED_2027.items()} for item in USE_ITEMS
-                },
                 progress=progress,
             )
     except BaseException:

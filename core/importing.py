@@ -8,7 +8,9 @@ leaves the project exactly as it was.
 When the instrument already has a codebook, columns with a known name keep their entry and
 only new columns are inferred and appended. ``column_map`` (source column name -> codebook
 name) and ``level_maps`` (codebook name -> {answer text in this file -> level}) let a later
-wave with renamed columns or reworded answers line up with the existing codebook.
+wave with renamed columns or reworded answers line up with the existing codebook. When the
+instrument already has a codebook, :func:`core.wavematch.match_wave` proposes both maps (the
+given ones override it) and its report is kept in the import report under ``"match"``.
 """
 
 from __future__ import annotations
@@ -25,6 +27,7 @@ from core.inference import infer_codebook, kind_summary
 from core.progress import Progress, ensure_progress
 from core.project import Project, Wave
 from core.readers import read_source
+from core.wavematch import MatchReport, match_wave
 
 
 @dataclass(frozen=True)
@@ -105,11 +108,19 @@ def import_file(
     )
     frame, questions = source.frame, dict(source.questions)
     report: dict[str, Any] = dict(source.report)
+    base = project.codebook(existing_inst.id) if existing_inst else Codebook()
+    if len(base):
+        # A later wave: match its columns and answers to the codebook (the given maps win).
+        match = match_wave(base, frame, questions, column_map=column_map, level_maps=level_maps)
+        column_map = match.column_map
+        level_maps = {**match.level_maps, **(level_maps or {})}
+        report["match"] = match.to_json()
     if column_map:
         frame, questions, renamed = _rename(frame, questions, column_map)
         report["renamed_columns"] = renamed
-
-    base = project.codebook(existing_inst.id) if existing_inst else Codebook()
+        # Entries given for a column that is stored under a codebook name: that entry wins.
+        if codebook is not None:
+            codebook = Codebook(v for v in codebook if v.name not in column_map)
     if codebook is not None:
         for var in codebook:
             base = base.with_variable(var)
@@ -133,6 +144,8 @@ def import_file(
     report["kinds"] = kind_summary(Codebook(merged[c] for c in frame.columns))
     report["personal_variables"] = [c for c in frame.columns if merged[c].personal]
     report["notes"] = list(report.get("notes", [])) + _inference_notes(report)
+    if "match" in report:
+        report["notes"] += _match_notes(report["match"])
 
     progress.update(90, 100, "Saving to the project")
     progress.check()  # the last moment a cancel is honoured: nothing has been written yet
@@ -226,6 +239,10 @@ def _remove_empty_instrument(project: Project, instrument_id: int) -> None:
                 conn.execute("DELETE FROM instruments WHERE id = ?", (instrument_id,))
     except PlaincountError:
         pass
+
+
+def _match_notes(match: dict[str, Any]) -> list[str]:
+    return MatchReport.from_json(match).summary()
 
 
 def _inference_notes(report: dict[str, Any]) -> list[str]:
