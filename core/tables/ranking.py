@@ -127,14 +127,21 @@ def ranking_table(ctx: Context, group: str) -> TableResult:
     use = valid if groups is None else valid & (groups.codes >= 0)
     pos = positions[use]
     rule = ctx.spec.borda
+    n_opt = len(options)
     pts = borda(pos, rule, ctx.spec.borda_points)
     counts = rank_counts(pos)
     n_ballots = int(use.sum())
     not_ranked = n_ballots - counts.sum(axis=1)
     full = np.column_stack([counts, not_ranked])
-    sup = suppress(full, ctx.min_cell, row_totals=True, col_totals=True)
+    # Under the zero rule each option's points are a weighted sum of its place counts, so the
+    # check must not let points and counts together pin down a hidden count. (Under the other
+    # rules the points also depend on how many options each respondent ranked.)
+    weights = None
+    if rule == "zero":
+        scheme = np.asarray(ctx.spec.borda_points or np.arange(n_opt - 1, -1, -1), dtype=float)
+        weights = np.tile(np.append(scheme, 0.0), (n_opt, 1))
+    sup = suppress(full, ctx.min_cell, row_totals=True, col_totals=True, row_weights=weights)
     order = sorted(range(len(options)), key=lambda i: (-pts[i], i))
-    n_opt = len(options)
     data: dict[str, Any] = {
         "options": [options[i] for i in order],
         "points": {options[i]: _num(pts[i]) for i in order},

@@ -71,6 +71,7 @@ def suppress(
     row_totals: bool = True,
     col_totals: bool = True,
     protect_totals: bool = True,
+    row_weights: np.ndarray | None = None,
 ) -> Suppression:
     """Decide which counts to hide in a table of counts with (optionally) its totals.
 
@@ -86,6 +87,10 @@ def suppress(
     protect_totals
         Whether small totals are hidden too (a group of three people is itself a small
         count). When False, totals are always shown and only interior cells are hidden.
+    row_weights
+        Weights (rows x columns) of a further published number per row, such as Borda
+        points = sum of points per place x count per place. The check then includes these
+        equations too, so a hidden count cannot be solved from them either.
 
     Returns
     -------
@@ -144,7 +149,15 @@ def suppress(
         # lies in 1..k-1 and that other hidden cells are 0 or at least k. Check with those
         # bounds too, and widen the pattern where they pin a cell down.
         exposed = exposed_cells(
-            ext, exists, hidden, primary_mask, threshold, row_node, col_node, small_line
+            ext,
+            exists,
+            hidden,
+            primary_mask,
+            threshold,
+            row_node,
+            col_node,
+            small_line,
+            row_weights,
         )
         if not exposed:
             break
@@ -204,6 +217,7 @@ def exposed_cells(
     row_node,
     col_node,
     small_line: np.ndarray | None = None,
+    row_weights: np.ndarray | None = None,
 ) -> list[tuple[int, int]]:
     """Hidden cells whose possible values, given every shown number, span less than 1.
 
@@ -252,7 +266,20 @@ def exposed_cells(
             bounds.append((float(threshold), None))
         else:
             bounds.append((0.0, None))
-    if len(rows_a) <= 1:
+    if row_weights is not None:
+        weights = np.asarray(row_weights, dtype=float)
+        for i in range(r):
+            coeffs = np.zeros(len(cells))
+            known = 0.0
+            for j in range(c):
+                if (i, j) in index:
+                    coeffs[index[(i, j)]] = weights[i, j]
+                else:
+                    known += weights[i, j] * ext[i, j]
+            if coeffs.any():
+                rows_a.append(coeffs)
+                rhs.append(float(weights[i] @ ext[i, :c]) - known)
+    if len(rows_a) <= 1 and row_weights is None:
         return _exposed_on_one_line(cells, rows_a, rhs, bounds)
     a_eq = np.array(rows_a) if rows_a else None
     b_eq = np.array(rhs) if rows_a else None

@@ -19,7 +19,7 @@ from core.tables.suppression import suppress
 CASE = np.array([[25, 7, 30], [40, 22, 18]])
 
 
-def intervals(counts: np.ndarray, sup, threshold: int, reader_bounds: bool) -> dict:
+def intervals(counts: np.ndarray, sup, threshold: int, reader_bounds: bool, weights=None) -> dict:
     """Min and max of each hidden cell given every shown number of the table.
 
     With ``reader_bounds`` a "<k" cell is known to lie in 1..k-1 (0..k-1 in a group whose
@@ -62,6 +62,17 @@ def intervals(counts: np.ndarray, sup, threshold: int, reader_bounds: bool) -> d
                 known += sign * ext[i, j]
         a_eq.append(col)
         b_eq.append(-known)
+    if weights is not None:  # a further published number per row, e.g. Borda points
+        for i in range(r):
+            row = np.zeros(len(cells))
+            known = 0.0
+            for j in range(c):
+                if (i, j) in idx:
+                    row[idx[(i, j)]] = weights[i, j]
+                else:
+                    known += weights[i, j] * ext[i, j]
+            a_eq.append(row)
+            b_eq.append(float(weights[i] @ counts[i]) - known)
     small_rows = {i for i in range(r) if 0 < ext[i, c] < threshold}
     small_cols = {j for j in range(c) if 0 < ext[r, j] < threshold}
     bounds = []
@@ -165,3 +176,16 @@ def test_no_hidden_cell_is_recoverable_in_random_tables(rows, threshold):
         assert all(hi - lo > 0 for lo, hi in spans.values())
         spans = intervals(counts, sup, threshold, reader_bounds=True)
         assert all(hi - lo >= 1 - 1e-9 for lo, hi in spans.values())
+
+
+def test_weighted_row_totals_such_as_borda_points_are_checked_too():
+    # Invented rank-count table (options x places 1-4 and "not ranked"); the points per
+    # option (3, 2, 1, 0 per place) are published beside it.
+    counts = np.array([[24, 3, 4, 9, 0], [6, 24, 7, 3, 0], [3, 8, 26, 3, 0], [7, 5, 3, 25, 0]])
+    weights = np.tile([3.0, 2.0, 1.0, 0.0, 0.0], (4, 1))
+    plain = suppress(counts, 5)
+    spans = intervals(counts, plain, 5, reader_bounds=False, weights=weights)
+    assert any(hi - lo < 1 for lo, hi in spans.values())  # points would give a count away
+    sup = suppress(counts, 5, row_weights=weights)
+    spans = intervals(counts, sup, 5, reader_bounds=True, weights=weights)
+    assert all(hi - lo >= 1 - 1e-9 for lo, hi in spans.values())
