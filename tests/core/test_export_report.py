@@ -362,3 +362,18 @@ def test_keep_takes_every_table_option_of_the_table_command(tmp_path, capsys):
     assert cli(["keep", path, "track", "--chart", "pie"]) == 2
     assert "cannot be shown as a pie chart" in capsys.readouterr().err
     assert cli(["keep", path, "nothing_here"]) == 2
+
+
+def test_progress_reports_each_step_in_order(tmp_path):
+    project = make_project(tmp_path)
+    outline.keep(project, TableSpec("track"), title="Track")
+    outline.keep(project, TableSpec("age", chart="histogram"), title="Age", finding="f")
+    seen = []
+    progress = Progress(on_update=lambda done, total, label: seen.append((done, total, label)))
+    export_outline(project, tmp_path / "out", ["xlsx", "csv"], progress)
+    labels = [label for _, _, label in seen]
+    assert labels[:2] == ["Computing “Track”", "Computing “Age”"]
+    assert labels.index("Writing the workbook") < labels.index("Writing CSV files")
+    assert seen[-1] == (4, 4, "Done")  # 2 results + 2 formats
+    assert [d for d, _, _ in seen] == sorted(d for d, _, _ in seen)  # never goes backwards
+    project.close()
