@@ -230,6 +230,7 @@ class ImportDialog(QDialog):
         self._inferred: Codebook | None = None
         self._raw_inferred: Codebook | None = None
         self._inferred_rows = 0
+        self._wave_typed = False
         self._edited: set[str] = set()
         self._questions: dict[str, str] = {}
         self._known: set[str] = set()
@@ -424,6 +425,7 @@ class ImportDialog(QDialog):
         self.delimiter_combo.currentIndexChanged.connect(self._on_read_setting_changed)
         self.instrument_combo.currentTextChanged.connect(self._on_instrument_combo_changed)
         self.wave_edit.textChanged.connect(self._on_wave_edit_changed)
+        self.wave_edit.textEdited.connect(self._on_wave_edit_edited)
         self.columns_table.itemChanged.connect(self._on_columns_table_item_changed)
         self.import_button.clicked.connect(self._on_import_button_clicked)
         self.close_button.clicked.connect(self.reject)
@@ -444,6 +446,8 @@ class ImportDialog(QDialog):
         self._guess_wave()
 
     def _guess_wave(self) -> None:
+        if self._wave_typed:
+            return  # the evaluator's own label stays
         taken = {w.label for w in self._target_waves()}
         self.wave_edit.setText(guess_wave_label(self.path, taken))
 
@@ -651,6 +655,9 @@ class ImportDialog(QDialog):
         self._guess_wave()
         self._update_target_note()
         self._apply_known_entries()
+
+    def _on_wave_edit_edited(self, _text: str) -> None:
+        self._wave_typed = True
 
     def _on_wave_edit_changed(self, _text: str) -> None:
         self._update_target_note()
