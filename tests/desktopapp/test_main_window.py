@@ -149,3 +149,15 @@ def test_dropping_a_project_file_opens_it(window, small_project_path):
     )
     window.dropEvent(event)
     assert window.project is not None and window.project.path == small_project_path
+
+
+def test_demo_from_argv_builds_in_the_user_data_folder(qtbot):
+    import os
+
+    window = build_window(build_parser().parse_args(["--demo"]), synchronous=True)
+    qtbot.addWidget(window)
+    # platformdirs' user_data_dir follows XDG_DATA_HOME, which tests point at a temp folder.
+    expected = Path(os.environ["XDG_DATA_HOME"]) / "Plaincount" / "harbor_point_demo.plaincount"
+    assert window.project is not None and window.project.path == expected
+    assert [w.label for w in window.project.waves()] == ["2026", "2027"]
+    window.close_project()
