@@ -53,6 +53,10 @@ def compute_table(project: Project, spec: TableSpec) -> TableResult:
 
 
 def _compute(project: Project, spec: TableSpec, wave: Any) -> TableResult:
+    if spec.compare_waves:  # side by side across waves: core.waves
+        from core.waves import compare_waves
+
+        return compare_waves(project, spec, spec.compare_waves)
     working = working_data(project, wave.id)
     instrument = project.instrument(wave.instrument_id).name
     variables = table_variables(working.codebook, spec)
