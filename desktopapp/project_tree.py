@@ -119,7 +119,7 @@ class ProjectTreeWidget(QTreeWidget):
                 else:
                     parent_item.addChild(item)
                 self._items[node.key] = item
-            self.expandToDepth(1)
+            self.expandToDepth(2)
         self.blockSignals(False)
         target = None
         if current is not None:

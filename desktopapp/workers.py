@@ -242,6 +242,9 @@ class BackgroundRunner(QObject):
         try:
             if overtaken:
                 return
+            for name in ("on_success", "on_failure", "on_cancelled"):
+                if not _receiver_alive(callbacks[name]):
+                    return  # the view that asked was closed meanwhile; nobody to tell
             if ok:
                 if callbacks["on_success"] is not None:
                     callbacks["on_success"](payload)
@@ -258,6 +261,16 @@ class BackgroundRunner(QObject):
             job.finished.emit()
             if not self._jobs:
                 self.busy_changed.emit(False)
+
+
+def _receiver_alive(callback: Callable[..., Any] | None) -> bool:
+    """False when ``callback`` is a method of a Qt object that has been deleted."""
+    owner = getattr(callback, "__self__", None)
+    if owner is None or not isinstance(owner, QObject):
+        return True
+    import shiboken6
+
+    return bool(shiboken6.isValid(owner))
 
 
 def _monotonic_ms() -> float:

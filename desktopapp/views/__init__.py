@@ -43,6 +43,7 @@ VIEW_MODULES = [
     "desktopapp.views.project_view",
     "desktopapp.views.import_view",
     "desktopapp.views.codebook_view",
+    "desktopapp.views.missing_view",
 ]
 
 

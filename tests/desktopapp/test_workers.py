@@ -125,3 +125,17 @@ def test_short_work_shows_no_progress(qtbot):
     job = runner.run(lambda p: time.sleep(0.05))
     qtbot.waitUntil(lambda: not job.running, timeout=3000)
     assert parent.findChild(QProgressDialog) is None
+
+
+def test_results_for_a_deleted_view_are_dropped(qtbot):
+    import shiboken6
+    from PySide6.QtWidgets import QLabel
+
+    runner = BackgroundRunner(None)
+    label = QLabel()
+    release = threading.Event()
+    job = runner.run(lambda p: release.wait(5) and "late", on_success=label.setText)
+    shiboken6.delete(label)  # the view was closed while the work ran
+    release.set()
+    qtbot.waitUntil(lambda: not job.running, timeout=5000)
+    assert job.result == "late"  # finished, and no call into the deleted widget
