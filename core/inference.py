@@ -30,6 +30,8 @@ from typing import Any
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
 
 from core import scales
 from core.codebook import Codebook, Variable
@@ -204,13 +206,16 @@ def _profile(name: str, column: pd.Series, question: str, position: int) -> _Pro
     if column.dtype == object:
         column = column.map(lambda v: v if v is None or isinstance(v, str) else _as_text(v))
     counts_series = column.value_counts(dropna=True, sort=False)
-    index = [str(v).strip() for v in counts_series.index]
-    agg: dict[str, int] = {}
-    for text, count in zip(index, counts_series.to_numpy()):
-        agg[text] = agg.get(text, 0) + int(count)
-    blank = n - sum(agg.values()) + agg.pop("", 0)
-    texts = list(agg)
-    counts = np.array([agg[t] for t in texts], dtype=np.int64)
+    index = counts_series.index.astype("str")
+    stripped = index.str.strip()
+    if not (stripped == index).all():
+        # " Agree" and "Agree" are one answer: add up their counts.
+        counts_series = pd.Series(counts_series.to_numpy(), index=stripped)
+        counts_series = counts_series.groupby(level=0, sort=False).sum()
+    counts_series = counts_series[counts_series.index != ""]
+    texts = counts_series.index.tolist()
+    counts = counts_series.to_numpy(dtype=np.int64)
+    blank = n - int(counts.sum())
     nums = _parse_numbers(texts)
     return _Profile(name, question, position, n, blank, texts, counts, numbers=nums)
 
@@ -250,8 +255,15 @@ def _declared_codes(question: str) -> dict[str, MissingReason]:
 def _missing_codes(p: _Profile) -> dict[str, MissingReason]:
     codes: dict[str, MissingReason] = {}
     declared = _declared_codes(p.question)
+    # Full normalisation ("9 - Don't know.") for ordinary answer lists; columns of many
+    # distinct texts (ids, comments) are only checked for the plain phrases.
+    thorough = len(p.values) <= 1000
     for text in p.values:
-        hit, reason = _phrase_reason(text)
+        if thorough:
+            hit, reason = _phrase_reason(text)
+        else:
+            key = text.lower().replace("’", "'")
+            hit, reason = key in MISSING_PHRASES, MISSING_PHRASES.get(key)
         if hit:
             codes[text] = reason if reason is not None else MissingReason.SKIPPED
     # Negative sentinels beside non-negative answers: -99 in an age column.
@@ -626,15 +638,23 @@ def _rank_matrix(frame: pd.DataFrame, names: list[str], codes: list[dict]) -> np
     cols = []
     for name, missing in zip(names, codes):
         col = frame[name]
-        if pd.api.types.is_numeric_dtype(col):
-            arr = col.to_numpy(dtype=float, na_value=np.nan).copy()
-        else:
-            arr = pd.to_numeric(col, errors="coerce").to_numpy(dtype=float, na_value=np.nan)
+        arr = _numbers_of(col)
         for code in missing:
             with contextlib.suppress(ValueError):
                 arr[arr == float(code)] = np.nan
         cols.append(arr)
     return np.column_stack(cols)
+
+
+def _numbers_of(col: pd.Series) -> np.ndarray:
+    """A column as floats (text that is no number becomes NaN), in compiled code if possible."""
+    if pd.api.types.is_numeric_dtype(col):
+        return col.to_numpy(dtype=float, na_value=np.nan).copy()
+    try:
+        cast = pc.cast(pa.array(col.array), pa.float64())
+        return cast.to_numpy(zero_copy_only=False).astype(float, copy=True)
+    except (pa.ArrowInvalid, pa.ArrowTypeError, pa.ArrowNotImplementedError, TypeError):
+        return pd.to_numeric(col, errors="coerce").to_numpy(dtype=float, na_value=np.nan)
 
 
 def _is_ranking(matrix: np.ndarray, hint: bool) -> bool:
@@ -711,7 +731,12 @@ def _compatible_stretches(
         if guesses[i].kind in (Kind.NUMERIC, Kind.LIKERT, Kind.CATEGORICAL)
         and all(a in profiles[i].numbers for a in guesses[i].answers)
     ]
-    if len(numeric) == len(run) and len(run) >= 3:
+    within = all(
+        float(profiles[i].numbers[a]).is_integer() and 1 <= profiles[i].numbers[a] <= len(run)
+        for i in numeric
+        for a in guesses[i].answers
+    )
+    if len(numeric) == len(run) and len(run) >= 3 and within:
         matrix = _rank_matrix(frame, names, [guesses[i].missing_codes for i in run])
         if _is_ranking(matrix, hint):
             for i in run:
