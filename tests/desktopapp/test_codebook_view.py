@@ -176,3 +176,24 @@ def test_dragging_an_answer_reorders_it(window, view):
     assert model.moveRow(QModelIndex(), 0, QModelIndex(), 3)
     assert _codebook(window)["track"].levels == ("Solar", "Welding", "HVAC")
     assert [h["label"] for h in window.project.history()] == ["Reorder the answers of track"]
+
+
+def test_quick_successive_edits_on_the_worker_build_on_each_other(qtbot, small_project_path):
+    from dataclasses import replace
+
+    from desktopapp.main_window import MainWindow
+
+    window = MainWindow(synchronous=False)
+    qtbot.addWidget(window)
+    window.show()
+    window.open_project(small_project_path)
+    window.show_node(NodeType.CODEBOOK)
+    view = window.view
+    # Two changes asked for before the first one is written: the second must not undo the first.
+    view.change_variable("age", lambda v: replace(v, question="Age in years"), "Edit age text")
+    view.change_variable("age", lambda v: replace(v, range=(16.0, 80.0)), "Set age range")
+    qtbot.waitUntil(lambda: not window.runner.busy, timeout=5000)
+    age = _codebook(window)["age"]
+    assert (age.question, age.range) == ("Age in years", (16.0, 80.0))
+    assert [h["label"] for h in window.project.history()] == ["Edit age text", "Set age range"]
+    window.close_project()
