@@ -9,7 +9,7 @@ from typing import Any
 from core import cleaning
 from core.checks import CHECK_IDS, CHECK_LABELS, flag_counts
 from core.checks.flag import json_value
-from core.checks.settings import OUTLIER_METHODS, settings_for_wave
+from core.checks.settings import OUTLIER_METHODS, save_settings, settings_for_wave
 from core.cli.common import emit_json, opened, print_rows
 from core.errors import PlaincountError
 from core.ledger import Action, entries_for, surviving, withdraw
@@ -44,6 +44,9 @@ def register(sub: argparse._SubParsersAction) -> None:
         type=int,
         metavar="K",
         help="straight-lining needs batteries of at least K items (default 5)",
+    )
+    p.add_argument(
+        "--save", action="store_true", help="keep these settings as the project's check settings"
     )
     p.add_argument("--json", action="store_true", help="print the result as JSON")
     p.set_defaults(func=_flags)
@@ -124,6 +127,8 @@ def _flags(args: argparse.Namespace) -> int:
         if args.check:
             changes["enabled"] = tuple(args.check)
         settings = replace(settings, **changes)  # validated in __post_init__
+        if args.save:
+            save_settings(project, replace(settings, rules=()))
         run = cleaning.flags_for(project, wave.id, settings)
         flags = [f for f in run.flags if not (args.open and f.decided_by is not None)]
         if args.json:

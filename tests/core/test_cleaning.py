@@ -285,6 +285,15 @@ def test_cli_flags_json_shape(project_file, capsys):
     )
     assert [f["check"] for f in only["flags"]] == ["speeder"]
     assert only["settings"]["speeder_fraction"] == 0.3
+    # Overrides are for one run unless saved.
+    again = _json(
+        capsys, ["flags", project_file, "--json", "--outlier-method", "modified_z", "--save"]
+    )
+    assert again["settings"]["speeder_fraction"] == 0.5
+    saved = _json(capsys, ["flags", project_file, "--json"])
+    assert saved["settings"]["outlier_method"] == "modified_z"
+    assert main(["flags", project_file, "--speeder-fraction", "2"]) == 2
+    assert "between 0 and 1" in capsys.readouterr().err
 
 
 def test_cli_edit_ledger_and_rules(project_file, capsys):
