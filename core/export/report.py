@@ -125,9 +125,9 @@ def export_outline(
     comments = include_comments and any(_has_kind(project, e, Kind.TEXT) for e in entries)
 
     staging = out / f".plaincount-export-{uuid.uuid4().hex[:8]}"
-    staging.mkdir()
     written: list[Path] = []
     try:
+        staging.mkdir()
         done = len(kept)
         title, subtitle = _titles(project, entries)
         if "xlsx" in chosen:
