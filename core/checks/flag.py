@@ -84,10 +84,10 @@ class Flag:
     row: int
     respondent: str
     variables: tuple[str, ...]
-    value: Any
+    value: Any = field(hash=False)  # may be a dict (consistency): not part of the hash
     severity: str
     message: str
-    suggestion: Suggestion | None = None
+    suggestion: Suggestion | None = field(default=None, hash=False)
     decided_by: int | None = None
     detail: Mapping[str, Any] = field(default_factory=dict, compare=False, hash=False)
 

@@ -65,6 +65,8 @@ def test_flags_for_finds_each_planted_problem(wave):
         "speeder",
     ]
     assert sum(g.count for g in groups) == len(run.flags)
+    # Flags are hashable values (a view may keep them in sets), keyed by check/row/variables.
+    assert len(set(run.flags)) == len(run.flags) == len({f.key for f in run.flags})
 
 
 def test_each_kind_of_decision(wave):
