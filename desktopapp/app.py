@@ -63,7 +63,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     from desktopapp.errors import install_excepthook
     from desktopapp.icons import app_icon
 
-    app = QApplication.instance() or QApplication([sys.argv[0], *sys.argv[1:2]])
+    app = QApplication.instance() or QApplication([sys.argv[0]])  # our options are parsed above
     app.setOrganizationName(ORGANISATION)
     app.setApplicationName(APP_NAME)
     app.setDesktopFileName("plaincount")  # matches resources/plaincount.desktop
