@@ -460,7 +460,12 @@ def match_wave(
     rest_cols = [c for c in columns if c not in decided]
     rest_vars = [v for v in codebook if v.name not in taken and v.name not in columns]
     if rest_cols and rest_vars:
-        guessed = infer_codebook(frame[rest_cols], {c: q(c) for c in rest_cols})
+        # Each column guessed at its own position (a column of distinct whole numbers is
+        # taken for an identifier only when it comes first in the file).
+        guessed = {
+            c: infer_codebook(frame[[c]], {c: q(c)}, first_position=columns.index(c) + 1)[c]
+            for c in rest_cols
+        }
         counts = {c: answer_counts(frame[c]) for c in rest_cols}
         pairs = []
         for col in rest_cols:
