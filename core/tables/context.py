@@ -153,7 +153,19 @@ def label_of(ctx: Context, name: str) -> str:
     return name
 
 
+def by_label(ctx: Context, name: str) -> str:
+    """How a break-down reads after "by": a short label, else the name in plain words.
+
+    "by Which trade track are you in?" reads badly; "by track" does not.
+    """
+    var = ctx.codebook.get(name)
+    text = " ".join((var.question if var is not None else "").split())
+    if text and len(text) <= 30 and "?" not in text:
+        return text
+    return name.replace("_", " ")
+
+
 def by_title(ctx: Context, title: str) -> str:
     if not ctx.spec.by:
         return title
-    return title + " — by " + " and ".join(label_of(ctx, b) for b in ctx.spec.by)
+    return title + " — by " + " and ".join(by_label(ctx, b) for b in ctx.spec.by)
