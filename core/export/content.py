@@ -267,8 +267,14 @@ def suppression_sentence(project: Project, entries: list[Entry]) -> str:
     return text
 
 
-def appendix_blocks(project: Project, entries: list[Entry]) -> list[Block]:
-    """The appendix "How the data were treated", one set of sections per wave reported."""
+def appendix_blocks(
+    project: Project, entries: list[Entry], show_respondents: bool = False
+) -> list[Block]:
+    """The appendix "How the data were treated", one set of sections per wave reported.
+
+    Cleaning decisions name respondents by data row; their identifiers are shown only with
+    ``show_respondents`` (when the evaluator has explicitly included personal data).
+    """
     blocks: list[Block] = [Heading(1, "How the data were treated")]
     waves = report_waves(project, entries)
     several = len(waves) > 1
@@ -288,7 +294,7 @@ def appendix_blocks(project: Project, entries: list[Entry]) -> list[Block]:
 
         # How the data were checked, every ledger decision summarised and listed, exclusions,
         # and the consistency rules and recodes (written by the cleaning module).
-        for section in treatment_appendix(project, wave.id):
+        for section in treatment_appendix(project, wave.id, show_respondents=show_respondents):
             blocks.append(Heading(2, printable(section["heading"]) + suffix))
             blocks.extend(Paragraph(printable(p)) for p in section.get("paragraphs", []))
             table = section.get("table")

@@ -77,8 +77,9 @@ def export_outline(
         Reports each step and lets the caller cancel (:class:`core.progress.Cancelled`);
         a cancelled export leaves nothing in ``out_dir``.
     include_personal
-        Export results about identifiers or variables marked as personal data. Off by
-        default: such results are left out with a warning.
+        Export results about identifiers or variables marked as personal data, and name
+        respondents by identifier in the appendix's list of cleaning decisions. Off by
+        default: such results are left out with a warning, respondents named by data row.
     include_comments
         Export results about open-ended comments. Off by default, because comments can
         identify respondents; when on, the report carries a caution.
@@ -136,7 +137,7 @@ def export_outline(
             written.append(write_workbook(staging / WORKBOOK, entries, about, title))
             done += 1
         if "docx" in chosen or "html" in chosen:
-            blocks = _report_blocks(project, entries, comments)
+            blocks = _report_blocks(project, entries, comments, include_personal)
             if "docx" in chosen:
                 progress.update(done, steps, "Writing the report document")
                 written.append(write_docx(staging / REPORT_DOCX, title, subtitle, blocks))
@@ -378,11 +379,13 @@ def _titles(project: Project, entries: list[Entry]) -> tuple[str, str]:
     return project.name, subtitle + "."
 
 
-def _report_blocks(project: Project, entries: list[Entry], comments: bool) -> list[Block]:
+def _report_blocks(
+    project: Project, entries: list[Entry], comments: bool, show_respondents: bool
+) -> list[Block]:
     blocks: list[Block] = [Heading(1, "Results")]
     if comments:
         blocks.append(Paragraph(COMMENT_CAUTION, "caution"))
     for e in entries:
         blocks.extend(result_blocks(e))
-    blocks.extend(appendix_blocks(project, entries))
+    blocks.extend(appendix_blocks(project, entries, show_respondents))
     return blocks

@@ -377,3 +377,18 @@ def test_progress_reports_each_step_in_order(tmp_path):
     assert seen[-1] == (4, 4, "Done")  # 2 results + 2 formats
     assert [d for d, _, _ in seen] == sorted(d for d, _, _ in seen)  # never goes backwards
     project.close()
+
+
+def test_respondents_are_named_by_row_unless_personal_data_is_included(tmp_path):
+    project = make_project(tmp_path)
+    outline.keep(project, TableSpec("age"), title="Age")
+    record(
+        project,
+        project.find_wave("2026").id,
+        [Decision(Action.EXCLUDE, "Submitted twice", row=3, respondent="R0004")],
+    )
+    page = export_outline(project, tmp_path / "a", ["html"])[0].read_text(encoding="utf-8")
+    assert "R0004" not in page and "row 4" in page
+    page = export_outline(project, tmp_path / "b", ["html"], include_personal=True)[0]
+    assert "R0004" in page.read_text(encoding="utf-8")
+    project.close()
