@@ -7,7 +7,7 @@ from collections.abc import Callable
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from PySide6.QtCore import QByteArray, Qt, Signal
+from PySide6.QtCore import QByteArray, Qt, QTimer, Signal
 from PySide6.QtGui import QAction, QCloseEvent, QDragEnterEvent, QDropEvent, QKeySequence
 from PySide6.QtWidgets import (
     QFileDialog,
@@ -123,6 +123,10 @@ class MainWindow(QMainWindow):
         self._pages.addWidget(self.splitter)
         self.setCentralWidget(self._pages)
 
+        # A write shows "Saving…" in the title only if it lasts long enough to notice.
+        self._saving_timer = QTimer(self)
+        self._saving_timer.setSingleShot(True)
+        self._saving_timer.setInterval(500)
         self._create_actions()
         self._create_menus()
         self._connect_signals()
@@ -184,6 +188,8 @@ class MainWindow(QMainWindow):
         self.start_page.demo_requested.connect(self.open_demo)
         self.tree.node_changed.connect(self._on_tree_node_changed)
         self.project_changed.connect(self._on_project_changed)
+        self.runner.writing_changed.connect(self._on_runner_writing_changed)
+        self._saving_timer.timeout.connect(self._update_title)
 
     @property
     def registry(self) -> ViewRegistry:
@@ -533,11 +539,19 @@ class MainWindow(QMainWindow):
         self.start_page.refresh()
 
     # ------------------------------------------------------------------ window state
-    def _update_title(self) -> None:
-        if self.project is None:
-            self.setWindowTitle(APP_NAME)
+    def _on_runner_writing_changed(self, writing: bool) -> None:
+        if writing:
+            self._saving_timer.start()
         else:
-            self.setWindowTitle(f"{self.project.name} — All changes saved — {APP_NAME}")
+            self._saving_timer.stop()
+            self._update_title()
+
+    def _update_title(self) -> None:
+        if self.project is None or self.project.closed:
+            self.setWindowTitle(APP_NAME)
+            return
+        state = "Saving…" if self.runner.writing else "All changes saved"
+        self.setWindowTitle(f"{self.project.name} — {state} — {APP_NAME}")
 
     def _update_actions(self) -> None:
         has_project = self.project is not None

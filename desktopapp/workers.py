@@ -102,6 +102,7 @@ class BackgroundRunner(QObject):
     """
 
     busy_changed = Signal(bool)
+    writing_changed = Signal(bool)  # True while a project write is queued or running
 
     def __init__(self, parent_widget: QWidget | None = None, synchronous: bool = False) -> None:
         super().__init__(parent_widget)
@@ -114,6 +115,7 @@ class BackgroundRunner(QObject):
         self._emitter = _Emitter()
         self._emitter.done.connect(self._on_runnable_done, Qt.ConnectionType.QueuedConnection)
         self._jobs: dict[int, tuple[Job, dict[str, Any]]] = {}
+        self._writes = 0
         self._latest: dict[str, int] = {}
 
     # ------------------------------------------------------------------ public
@@ -139,6 +141,7 @@ class BackgroundRunner(QObject):
         """
         job = Job(label, key)
         callbacks = {
+            "writes": writes,
             "on_success": on_success,
             "on_failure": on_failure,
             "on_cancelled": on_cancelled,
@@ -166,6 +169,10 @@ class BackgroundRunner(QObject):
         timer.start()
         callbacks["timer"] = timer
         callbacks["started"] = _monotonic_ms()
+        if writes:
+            self._writes += 1
+            if self._writes == 1:
+                self.writing_changed.emit(True)
         pool = self._writer if writes else self._readers
         pool.start(_Runnable(job.id, fn, job.progress, self._emitter))
         if len(self._jobs) == 1:
@@ -175,6 +182,10 @@ class BackgroundRunner(QObject):
     @property
     def busy(self) -> bool:
         return bool(self._jobs)
+
+    @property
+    def writing(self) -> bool:
+        return self._writes > 0
 
     def wait(self, msecs: int = -1) -> bool:
         """Block until every queued call has finished (before closing a project)."""
@@ -224,6 +235,10 @@ class BackgroundRunner(QObject):
         if entry is None:
             return
         job, callbacks = entry
+        if callbacks["writes"] and not self.synchronous:
+            self._writes -= 1
+            if self._writes == 0:
+                self.writing_changed.emit(False)
         timer = callbacks.get("timer")
         if timer is not None:
             timer.stop()

@@ -161,3 +161,18 @@ def test_demo_from_argv_builds_in_the_user_data_folder(qtbot):
     assert window.project is not None and window.project.path == expected
     assert [w.label for w in window.project.waves()] == ["2026", "2027"]
     window.close_project()
+
+
+def test_title_says_saving_only_while_a_long_write_runs(qtbot, small_project_path):
+    import threading
+
+    window = MainWindow(synchronous=False)
+    qtbot.addWidget(window)
+    window.open_project(small_project_path)
+    release = threading.Event()
+    job = window.runner.run(lambda p: release.wait(5), writes=True)
+    qtbot.waitUntil(lambda: "Saving…" in window.windowTitle(), timeout=3000)
+    release.set()
+    qtbot.waitUntil(lambda: not job.running, timeout=3000)
+    assert window.windowTitle() == "Small test project — All changes saved — Plaincount"
+    window.close_project()
