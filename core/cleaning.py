@@ -18,7 +18,7 @@ from typing import Any
 
 import pandas as pd
 
-from core.checks import CheckRun, CheckSettings, Flag, check_run, mark_decided, sort_flags
+from core.checks import CheckRun, CheckSettings, Flag, check_run, sort_flags
 from core.checks.flag import CHECK_IDS, Context
 from core.checks.settings import settings_for_wave
 from core.checks.straightlining import battery_items
@@ -79,16 +79,11 @@ def refresh_flags(
         and changed.isdisjoint(f.variables)
         and not (f.check == "reversed_scale" and f.key in redone)
     ]
-    plain = [f if f.decided_by is None else _undecided(f) for f in [*kept, *fresh.flags]]
-    flags = sort_flags(mark_decided(plain, working.entries))
+    # Kept flags keep their decided_by: any decision that could answer one names a changed
+    # variable (so that flag was re-run) or excludes a respondent (a full run, above).
+    flags = sort_flags([*kept, *fresh.flags])
     notes = [n for n in previous.notes if not any(v in n for v in changed)] + fresh.notes
     return CheckRun(flags, list(dict.fromkeys(notes)), full)
-
-
-def _undecided(flag: Flag) -> Flag:
-    from dataclasses import replace
-
-    return replace(flag, decided_by=None)
 
 
 @dataclass(frozen=True)

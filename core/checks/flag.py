@@ -222,6 +222,29 @@ class Context:
             out.append("|".join(repr(m) for m in members))
         return tuple(out)
 
+    def numbers(self, name: str) -> np.ndarray:
+        """A numeric column as floats, NaN where missing or excluded (memoised per run)."""
+        memo = self.__dict__.setdefault("_numbers", {})
+        if name not in memo:
+            x = self.working.values[name].to_numpy(dtype=float, na_value=np.nan).copy()
+            answered = self.working.reasons[name].isna().to_numpy() & self.keep
+            x[~answered] = np.nan
+            memo[name] = x
+        return memo[name]
+
+    def quantiles(self, name: str, method: str) -> dict[float, float]:
+        """The 5th, 25th, 50th and 75th percentiles of :meth:`numbers` (one pass, memoised);
+        used by the outlier and wandering-zero checks alike."""
+        memo = self.__dict__.setdefault("_quantiles", {})
+        key = (name, method)
+        if key not in memo:
+            x = self.numbers(name)
+            x = x[~np.isnan(x)]
+            probs = (0.05, 0.25, 0.5, 0.75)
+            qs = np.quantile(x, probs, method=method) if len(x) else [np.nan] * 4
+            memo[key] = {p: float(q) for p, q in zip(probs, qs)}
+        return memo[key]
+
     def wants(self, names: Iterable[str]) -> bool:
         """Whether a check over these variables belongs to this run."""
         return self.only is None or any(n in self.only for n in names)

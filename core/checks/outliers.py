@@ -40,12 +40,22 @@ class Fences:
 
 
 def tukey_fences(
-    x: np.ndarray, method: str = "linear", inner: float = 1.5, outer: float = 3.0
+    x: np.ndarray,
+    method: str = "linear",
+    inner: float = 1.5,
+    outer: float = 3.0,
+    quartiles: tuple[float, float] | None = None,
 ) -> Fences:
-    """Tukey's fences from quartiles computed with numpy ``method=`` (type 7 by default)."""
-    data = np.asarray(x, dtype=float)
-    data = data[~np.isnan(data)]
-    q1, q3 = (float(q) for q in np.quantile(data, [0.25, 0.75], method=method))
+    """Tukey's fences from quartiles computed with numpy ``method=`` (type 7 by default).
+
+    ``quartiles`` passes (Q1, Q3) already computed with the same method.
+    """
+    if quartiles is None:
+        data = np.asarray(x, dtype=float)
+        data = data[~np.isnan(data)]
+        q1, q3 = (float(q) for q in np.quantile(data, [0.25, 0.75], method=method))
+    else:
+        q1, q3 = quartiles
     iqr = q3 - q1
     return Fences(
         q1,
@@ -110,16 +120,14 @@ def modified_z(x: np.ndarray, threshold: float = 3.5) -> ModifiedZ:
 def check(ctx: Context) -> list[Flag]:
     settings = ctx.settings
     flags: list[Flag] = []
-    values, reasons = ctx.working.values, ctx.working.reasons
+    values = ctx.working.values
     for var in ctx.working.codebook:
         if var.kind is not Kind.NUMERIC or var.name not in values.columns:
             continue
         if not ctx.wants([var.name]):
             continue
-        x = values[var.name].to_numpy(dtype=float, na_value=np.nan).copy()
-        answered = reasons[var.name].isna().to_numpy() & ctx.keep & ~np.isnan(x)
-        x[~answered] = np.nan
-        n = int(answered.sum())
+        x = ctx.numbers(var.name)
+        n = int((~np.isnan(x)).sum())
         if n < settings.min_answers:
             continue
         if settings.outlier_method == "tukey":
@@ -134,7 +142,14 @@ def _suggestion() -> Suggestion:
 
 
 def _tukey(ctx: Context, name: str, x: np.ndarray, settings) -> list[Flag]:  # noqa: ANN001
-    f = tukey_fences(x, settings.quantile_method, settings.tukey_inner, settings.tukey_outer)
+    q = ctx.quantiles(name, settings.quantile_method)
+    f = tukey_fences(
+        x,
+        settings.quantile_method,
+        settings.tukey_inner,
+        settings.tukey_outer,
+        quartiles=(q[0.25], q[0.75]),
+    )
     if f.iqr == 0:
         ctx.notes.append(
             f"Tukey's fences were not used on {name}: the middle half of its answers are "

@@ -21,15 +21,21 @@ CHECK = "wandering_zero"
 FACTORS = (10, 100)
 
 
-def candidates(x: np.ndarray, method: str = "linear") -> dict[int, float]:
-    """Positions (into ``x``) of likely wandering zeros, with the suggested value."""
+def candidates(
+    x: np.ndarray, method: str = "linear", quantiles: dict[float, float] | None = None
+) -> dict[int, float]:
+    """Positions (into ``x``) of likely wandering zeros, with the suggested value.
+
+    ``quantiles`` passes the 5th, 25th, 50th and 75th percentiles already computed.
+    """
     data = np.asarray(x, dtype=float)
     answered = data[~np.isnan(data)]
     if len(answered) == 0:
         return {}
-    p5, q1, median, q3 = (
-        float(q) for q in np.quantile(answered, [0.05, 0.25, 0.5, 0.75], method=method)
-    )
+    if quantiles is None:
+        probs = (0.05, 0.25, 0.5, 0.75)
+        quantiles = dict(zip(probs, np.quantile(answered, probs, method=method)))
+    p5, q1, median, q3 = (float(quantiles[p]) for p in (0.05, 0.25, 0.5, 0.75))
     whole = bool(np.all(answered == np.round(answered)))
     floor = max(q3 + 3 * (q3 - q1), 3 * median)
     top = q3 + 1.5 * (q3 - q1)
@@ -51,18 +57,17 @@ def candidates(x: np.ndarray, method: str = "linear") -> dict[int, float]:
 
 def check(ctx: Context) -> list[Flag]:
     flags: list[Flag] = []
-    values, reasons = ctx.working.values, ctx.working.reasons
+    values = ctx.working.values
     for var in ctx.working.codebook:
         if var.kind is not Kind.NUMERIC or var.name not in values.columns:
             continue
         if not ctx.wants([var.name]):
             continue
-        x = values[var.name].to_numpy(dtype=float, na_value=np.nan).copy()
-        answered = reasons[var.name].isna().to_numpy() & ctx.keep
-        x[~answered] = np.nan
+        x = ctx.numbers(var.name)
         if int((~np.isnan(x)).sum()) < ctx.settings.min_answers:
             continue
-        for row, smaller in candidates(x, ctx.settings.quantile_method).items():
+        method = ctx.settings.quantile_method
+        for row, smaller in candidates(x, method, ctx.quantiles(var.name, method)).items():
             value = float(x[row])
             factor = round(value / smaller)
             message = (

@@ -91,7 +91,9 @@ def run() -> dict[str, float]:
         t = time.perf_counter()
         full = cleaning.check_run(working_data(project, wave), result.settings)
         full_rerun = time.perf_counter() - t
-        assert [f.key for f in full.flags] == [f.key for f in result.flags]
+        assert [(f.key, f.decided_by) for f in full.flags] == [
+            (f.key, f.decided_by) for f in result.flags
+        ]
         project.close()
 
     raw = frame["credits_term"].astype(float)
