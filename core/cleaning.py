@@ -140,7 +140,7 @@ def respondent_row(working: WorkingData, row: int, flags: Iterable[Flag] = ()) -
     """
     if not 0 <= row < working.n_rows:
         raise PlaincountError(f"There is no data row {row + 1} in this wave.")
-    ctx = Context(working, CheckSettings())
+    ctx = _context(working)
     by_var: dict[str, list[str]] = {}
     for f in flags:
         if f.row == row:
@@ -204,7 +204,20 @@ def find_row(
 
 
 def _current(working: WorkingData, row: int, name: str) -> Any:
-    return Context(working, CheckSettings()).shown(row, name)
+    return _context(working).shown(row, name)
+
+
+_LAST_CONTEXT: list[Context] = []
+
+
+def _context(working: WorkingData) -> Context:
+    """A read-only view helper for ``working``, reused across a batch (building one reads
+    every respondent id, which adds up over hundreds of flags)."""
+    last = _LAST_CONTEXT[0] if _LAST_CONTEXT else None
+    if last is None or last.working is not working:
+        last = Context(working, CheckSettings())
+        _LAST_CONTEXT[:] = [last]
+    return last
 
 
 def _check_variable(working: WorkingData, name: str) -> None:
