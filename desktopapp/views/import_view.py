@@ -61,19 +61,33 @@ class ImportView(QWidget):
         self.setObjectName("importView")
         self._context = context
         self.node = node
-        self._layout = QVBoxLayout(self)
+        outer = QVBoxLayout(self)
+        outer.setContentsMargins(0, 0, 0, 0)
+        self._body: QWidget | None = None
+        self.raw_table: QTableView | None = None
+        self._update_body()
+
+    def _update_body(self) -> None:
+        """(Re)build the contents; an instrument's list of waves changes when one is added."""
+        if self._body is not None:
+            self.layout().removeWidget(self._body)
+            self._body.hide()
+            self._body.setParent(None)  # gone from the view at once, deleted by Qt later
+            self._body.deleteLater()
+        self._body = QWidget()
+        self._layout = QVBoxLayout(self._body)
         self._layout.setContentsMargins(24, 20, 24, 20)
         self._layout.setSpacing(8)
         self.import_button = QPushButton(
-            "Import another wave…" if node.type == NodeType.WAVE else "Import a wave…"
+            "Import another wave…" if self.node.type == NodeType.WAVE else "Import a wave…"
         )
         self.import_button.setObjectName("importButton")
         self.import_button.clicked.connect(self._on_import_button_clicked)
-        self.raw_table: QTableView | None = None
-        if node.type == NodeType.WAVE:
+        if self.node.type == NodeType.WAVE:
             self._build_wave()
         else:
             self._build_instrument()
+        self.layout().addWidget(self._body)
 
     # ------------------------------------------------------------------ wave
     def _build_wave(self) -> None:
@@ -223,8 +237,11 @@ class ImportView(QWidget):
 
     # ------------------------------------------------------------------ slots
     def project_changed(self, changes: Changes) -> None:
-        # Facts shown here change only with structure; the tree rebuild handles removals.
-        return
+        # An instrument shows its waves and codebook counts; a wave's facts never change.
+        if self.node.type == NodeType.INSTRUMENT and self.node.instrument_id in (
+            changes.instrument_ids
+        ):
+            self._update_body()
 
     def _on_import_button_clicked(self) -> None:
         self._context.import_requested(None, self.node.instrument_id)

@@ -245,3 +245,28 @@ def test_closing_the_project_during_an_import_stops_it_cleanly(qtbot, tmp_path, 
     assert window.import_dialog is None and window.project is None
     with Project.open(path) as project:
         assert project.waves() == []
+
+
+def test_instrument_view_lists_a_wave_imported_while_it_is_shown(window, empty_project, tmp_path):
+    from PySide6.QtWidgets import QPushButton
+
+    from core.importing import import_file
+
+    window.request_import([write_xlsx(tmp_path / "survey_2026.xlsx", rows=5)])
+    window.import_dialog.import_button.click()
+    inst = empty_project.instruments()[0]
+    assert window.show_node(NodeType.INSTRUMENT, instrument_id=inst.id)
+    view = window.view
+    # Another part of the program (here the core directly) adds a wave while the view is shown.
+    import_file(
+        empty_project,
+        write_xlsx(tmp_path / "survey_2027.xlsx", rows=6),
+        instrument=inst.name,
+        wave="2027",
+    )
+    assert window.view is view  # the same view, brought up to date
+    texts = [b.text() for b in view.findChildren(QPushButton) if b.text().startswith("Wave")]
+    assert texts == [
+        "Wave 2026 — 5 respondents from survey_2026.xlsx",
+        "Wave 2027 — 6 respondents from survey_2027.xlsx",
+    ]
