@@ -18,6 +18,7 @@ COMMAND_MODULES = [
     "core.cli.export_commands",
     "core.cli.table_commands",
     "core.cli.sampling_commands",
+    "core.cli.wave_commands",
 ]
 
 

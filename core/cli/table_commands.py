@@ -99,6 +99,11 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument(
         "--pct-of-all", action="store_true", help="add a column of percentages of all respondents"
     )
+    p.add_argument(
+        "--compare-waves",
+        metavar="W1,W2,...",
+        help="put these waves side by side: counts, %% and the change in percentage points",
+    )
     p.add_argument("--json", action="store_true", help="print the result as JSON")
     p.set_defaults(func=_table)
 
@@ -133,6 +138,7 @@ def _table(args: argparse.Namespace) -> int:
         borda_points=points,
         tests=args.tests,
         pct_of_all=args.pct_of_all,
+        compare_waves=_split(args.compare_waves),
     )
     with opened(args.project) as project:
         result = compute_table(project, spec)

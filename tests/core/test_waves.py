@@ -259,3 +259,43 @@ def test_rule_decisions_are_copied_but_single_cell_corrections_are_not(tmp_path)
         assert report.flags.get("range", 0) >= 1
         # Applying again copies nothing twice.
         assert reapply_rules(project, exit_.id).copied == []
+
+
+# ---------------------------------------------------------------------------- command line
+def test_cli_transitions_respondents_and_compare_waves(tmp_path, capsys):
+    from core.cli.main import main
+
+    _tiny(tmp_path).close()
+    path = str(tmp_path / "tiny.plaincount")
+    assert (
+        main(["transitions", path, "load", "--waves", "entry,exit", "--min-cell", "0", "--json"])
+        == 0
+    )
+    out = json.loads(capsys.readouterr().out)
+    assert (out["moved_up"], out["stayed"], out["moved_down"], out["improved_pct"]) == (
+        2,
+        2,
+        1,
+        40.0,
+    )
+    assert main(["transitions", path, "load", "--waves", "entry,exit", "--min-cell", "0"]) == 0
+    assert "Improved (up): 40.0% of 5" in capsys.readouterr().out
+    assert main(["respondents", path, "--waves", "entry,exit", "--min-cell", "0", "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert (out["matched"], out["pct_of_a"]) == (6, 75.0)
+    assert (
+        main(["table", path, "load", "--compare-waves", "entry,exit", "--min-cell", "0", "--json"])
+        == 0
+    )
+    out = json.loads(capsys.readouterr().out)
+    # Entry answered: Low 3 (P1, P2, P7), Medium 2 (P3, P4), High 2 (P5, P8) of 7. Exit:
+    # Low 4 (P2, P4, P9 and P1's second submission: a wave's table counts every row until
+    # the duplicate is dealt with in cleaning), Medium 2 (P1, P6), High 3 (P3, P5, P10) of 9.
+    assert out["counts"] == {
+        "entry": {"Low": 3, "Medium": 2, "High": 2},
+        "exit": {"Low": 4, "Medium": 2, "High": 3},
+    }
+    assert out["bases"] == {"entry": 7, "exit": 9}
+    assert out["change_pp"]["High"] == pytest.approx(100 * 3 / 9 - 100 * 2 / 7)
+    assert main(["transitions", path, "age", "--waves", "entry,exit"]) == 2
+    assert "ordered answers" in capsys.readouterr().err
