@@ -44,6 +44,7 @@ VIEW_MODULES = [
     "desktopapp.views.import_view",
     "desktopapp.views.codebook_view",
     "desktopapp.views.missing_view",
+    "desktopapp.views.tabulation_view",
 ]
 
 

@@ -1,0 +1,276 @@
+"""The missing-data view on the demo project: item table, threshold, breakdown, scan, MCAR.
+
+Figures are checked against the core's own results where the view only shows them, and
+against outside references where the view could get them wrong: the demo generator's
+manifest (shares measured with pandas on the raw workbooks), scipy's chi-square test, and
+counts made here with pandas.
+"""
+
+from __future__ import annotations
+
+import json
+import shutil
+
+import numpy as np
+import pandas as pd
+import pytest
+from PySide6.QtCore import Qt
+from scipy import stats
+
+from core.demo import MANIFEST_NAME, build_demo_project
+from core.ledger import Action, Decision, record
+from core.mcar import mcar_frame
+from core.missing import item_summary
+from core.working import working_data
+from desktopapp.project_tree import NodeType
+from desktopapp.views.missing_view import MARK, RIGHT, MissingDataView
+
+WAVE = "2027"
+
+
+@pytest.fixture(scope="module")
+def demo(tmp_path_factory):
+    """The demo project, built once for the module (it takes a few seconds)."""
+    folder = tmp_path_factory.mktemp("missing_view_demo")
+    path = build_demo_project(folder)
+    manifest = json.loads((folder / MANIFEST_NAME).read_text(encoding="utf-8"))
+    return path, manifest
+
+
+def _open(window, path) -> MissingDataView:
+    assert window.open_project(path)
+    wave = next(w for w in window.project.waves() if w.label == WAVE)
+    assert window.show_node(NodeType.MISSING, wave_id=wave.id)
+    view = window.view
+    assert isinstance(view, MissingDataView)
+    assert view.loaded is not None, view.totals_label.text()
+    return view
+
+
+@pytest.fixture
+def view(window, demo) -> MissingDataView:
+    return _open(window, demo[0])
+
+
+def _reference_summary(window, view) -> pd.DataFrame:
+    return item_summary(working_data(window.project, view.wave_id)).set_index("variable")
+
+
+def _row(view, name: str) -> int:
+    row = view.item_model.row_of("variable", name)
+    assert row >= 0, name
+    return row
+
+
+def test_missing_node_is_in_the_tree_for_every_wave(window, demo):
+    assert window.open_project(demo[0])
+    nodes = [n for n in window.tree.nodes() if n.type == NodeType.MISSING]
+    assert len(nodes) == len(window.project.waves()) == 2
+
+
+def test_item_table_shows_item_summary(window, view, demo):
+    ref = _reference_summary(window, view)
+    model = view.item_model
+    assert model.rowCount() == len(ref) == 31
+    for name in ("age", "household_income_band", "employed_in_field", "gender"):
+        row = _row(view, name)
+        r = ref.loc[name]
+        assert model.text(row, "n_answered") == f"{r['n_answered']:,}"
+        assert model.text(row, "n_missing") == f"{r['n_missing']:,}"
+        assert model.text(row, "pct_missing") == f"{r['pct_missing']:.1f}"
+        assert model.text(row, "pct_missing_asked") == f"{r['pct_missing_asked']:.1f}"
+        assert model.text(row, "skipped") == str(r["skipped"])
+        assert model.text(row, "declined") == str(r["declined"])
+        assert model.text(row, "label") == r["label"]
+    # Outside reference: the generator measured the income item on the raw workbook with
+    # pandas (blank or 'Prefer not to say'), rounded to one decimal.
+    income = demo[1]["patterns"]["income_missing_by_gender"]["waves"][WAVE]
+    row = _row(view, "household_income_band")
+    assert model.text(row, "pct_missing") == f"{income['pct_missing']:.1f}" == "23.9"
+    # employed_in_field: 'not applicable' is left out of the share among those asked.
+    row = _row(view, "employed_in_field")
+    r = ref.loc["employed_in_field"]
+    asked = r["n"] - r["not_applicable"]
+    gaps = r["n_missing"] - r["not_applicable"]
+    assert model.text(row, "pct_missing_asked") == f"{100 * gaps / asked:.1f}" == "9.4"
+    assert model.text(row, "not_applicable") == "90"
+    # Numbers right-aligned, names left-aligned.
+    col = model.column_of("n_missing")
+    assert model.data(model.index(0, col), Qt.ItemDataRole.TextAlignmentRole) == RIGHT
+    assert model.headerData(col, Qt.Orientation.Horizontal, Qt.ItemDataRole.TextAlignmentRole) == (
+        RIGHT
+    )
+    col = model.column_of("variable")
+    assert model.data(model.index(0, col), Qt.ItemDataRole.TextAlignmentRole) != RIGHT
+    # Only reasons that occur in this wave get a column.
+    keys = [c.key for c in model.columns]
+    assert "dont_know" not in keys and "set_missing" not in keys
+
+
+def test_threshold_moves_the_markers(window, view):
+    ref = _reference_summary(window, view)
+    marker = view.item_model.column_of("above_threshold")
+    assert view.threshold == 5.0
+
+    def shown_marks() -> set[str]:
+        m = view.item_model
+        return {m.text(r, "variable") for r in range(m.rowCount()) if m.text(r, "above_threshold")}
+
+    # Reference: the share among those asked above the threshold, counted with pandas.
+    expected5 = set(ref.index[ref["pct_missing_asked"] > 5.0])
+    assert shown_marks() == expected5 and len(expected5) == 8
+    assert view.item_model.text(_row(view, "age"), "above_threshold") == MARK  # 5.6 %
+    assert "8 of 31 items marked" in view.marker_count_label.text()
+    assert "rule of thumb" in view.threshold_note.text()
+    assert "more than 5 % missing" in view.threshold_note.text()
+
+    view.threshold_spin.setValue(10.0)
+    expected10 = set(ref.index[ref["pct_missing_asked"] > 10.0])
+    assert shown_marks() == expected10 == {"household_income_band", "best_part", "change_one_thing"}
+    assert "3 of 31 items marked" in view.marker_count_label.text()
+    assert "more than 10 % missing" in view.threshold_note.text()
+    assert "rule of thumb" in view.threshold_note.text()
+    assert any("more than 10 % missing" in p for p in view.paragraphs)
+    assert view.item_model.text(_row(view, "age"), "above_threshold") == ""
+    assert marker == view.item_model.column_of("above_threshold")
+
+
+def test_clicking_income_and_grouping_by_gender(qtbot, view, demo):
+    # Start elsewhere so the click and the choice really change what is shown.
+    assert view.set_grouping("cohort")
+    assert view.select_item("age")
+    assert view.breakdown is not None and view.breakdown.by == "cohort"
+
+    table = view.item_table
+    proxy_row = view.item_proxy.mapFromSource(
+        view.item_model.index(_row(view, "household_income_band"), 1)
+    )
+    table.scrollTo(proxy_row)
+    qtbot.mouseClick(
+        table.viewport(), Qt.MouseButton.LeftButton, pos=table.visualRect(proxy_row).center()
+    )
+    assert view.breakdown.variable == "household_income_band"
+    assert view.breakdown_title.text() == "Breakdown of household_income_band"
+
+    index = view.group_combo.findData("gender")
+    view.group_combo.setCurrentIndex(index)
+    view.group_combo.activated.emit(index)
+    result = view.breakdown
+    assert result.by == "gender"
+    pct = view.breakdown_percentages()
+    # Outside reference: the generator's pandas measure on the raw workbook.
+    planted = demo[1]["patterns"]["income_missing_by_gender"]["waves"][WAVE]
+    assert round(pct["Man"], 1) == planted["pct_missing_by_gender"]["Man"]
+    assert round(pct["Woman"], 1) == planted["pct_missing_by_gender"]["Woman"]
+    assert pct["Man"] > 5 * pct["Woman"]  # men skip the income question far more
+
+    model = view.breakdown_model
+    man = model.row_of("group", "Man")
+    assert model.text(man, "pct_missing") == f"{pct['Man']:.1f}"
+    assert model.data(
+        model.index(man, model.column_of("n_missing")), Qt.ItemDataRole.TextAlignmentRole
+    ) == (RIGHT)
+
+    # Chi-square against scipy on the groups the test used (groups under 10 left out).
+    frame = result.table[result.table["n"] >= 10]
+    observed = np.vstack([frame["n_answered"], frame["n_missing"]])
+    ref = stats.chi2_contingency(observed, correction=False)
+    assert result.chi2 == pytest.approx(ref.statistic, rel=1e-12)
+    assert f"X² = {ref.statistic:.2f}" in view.breakdown_test.text()
+    assert f"df = {ref.dof}" in view.breakdown_test.text()
+    assert "expected count" in view.breakdown_test.text()
+    assert "Cochran" in view.breakdown_test.text()
+    assert "not proof" in view.breakdown_notes.text()
+
+
+def test_an_item_cannot_be_broken_down_by_itself(view):
+    assert view.select_item("gender")
+    assert view.set_grouping("gender")
+    assert view.breakdown is None
+    assert "by itself" in view.breakdown_test.text()
+
+
+def test_pattern_scan_ranks_income_by_gender_first(qtbot, view):
+    assert view.scan is None
+    view.tabs.setCurrentIndex(4)
+    qtbot.mouseClick(view.scan_button, Qt.MouseButton.LeftButton)
+    model = view.scan_model
+    assert model.rowCount() == len(view.scan) > 100
+    assert model.text(0, "variable") == "household_income_band"
+    assert model.text(0, "by") == "gender"
+    assert model.text(0, "p_adjusted") == "< 0.001"
+    assert model.text(0, "pct_missing_by_group").startswith("Man 40.5")
+    assert "not proof" in view.scan_caution.text().lower()
+    assert "screening aid" in view.scan_caution.text()
+    assert "1 differ clearly" in view.scan_status.text()
+    # Double-clicking a row opens its breakdown on the Items tab.
+    view.set_grouping("cohort")
+    view.select_item("age")
+    view.scan_table.doubleClicked.emit(model.index(0, 0))
+    assert view.tabs.currentIndex() == 0
+    assert view.breakdown.variable == "household_income_band"
+    assert view.breakdown.by == "gender"
+
+
+def test_little_mcar_on_numeric_items(qtbot, window, view):
+    names = ["age", "credits_term", "hours_work_week", "years_experience"]
+    view.tabs.setCurrentIndex(5)
+    view.set_mcar_items(names)
+    assert view.mcar_checked() == names
+    qtbot.mouseClick(view.mcar_run_button, Qt.MouseButton.LeftButton)
+    result = view.mcar
+    assert result is not None
+    # Patterns and degrees of freedom counted here with pandas: df = sum over missing-data
+    # patterns of the items observed in it, minus the number of items (Little 1988).
+    frame = mcar_frame(working_data(window.project, view.wave_id), names)
+    observed = ~frame.isna()
+    patterns = observed.drop_duplicates()
+    df = int(patterns[patterns.any(axis=1)].sum(axis=1).sum()) - len(names)
+    assert view.mcar_figures["df"].text() == str(df)
+    assert view.mcar_figures["patterns"].text() == str(len(patterns))
+    assert view.mcar_figures["statistic"].text() == f"{result.statistic:.2f}"
+    assert result.statistic > 0
+    # The p-value is the chi-square upper tail at the shown statistic and df (scipy).
+    assert result.p_value == pytest.approx(stats.chi2.sf(result.statistic, df), rel=1e-9)
+    reading = view.mcar_reading.text()
+    assert "Limits:" in reading and "does not prove" in reading
+
+    view.set_mcar_items(["age"])
+    qtbot.mouseClick(view.mcar_run_button, Qt.MouseButton.LeftButton)
+    assert view.mcar is None
+    assert "at least two" in view.mcar_reading.text()
+    assert view.mcar_figures["statistic"].text() == "–"
+
+
+def test_charts_are_drawn_on_their_tabs(view):
+    for tab, chart in ((2, view.dropoff_chart), (3, view.matrix_chart)):
+        view.tabs.setCurrentIndex(tab)
+        chart.render_now()
+        assert chart.message == ""
+        assert len(chart.figure.axes) == 1
+        ax = chart.figure.axes[0]
+        assert [t.get_text() for t in ax.get_xticklabels()][:3] == ["cohort", "track", "age"]
+
+
+def test_view_follows_ledger_decisions_and_undo(window, demo, tmp_path):
+    path = tmp_path / "copy.plaincount"
+    shutil.copy(demo[0], path)
+    view = _open(window, path)
+    view.select_item("agree_6")
+    before = int(view.item_model.text(_row(view, "agree_6"), "n_missing"))
+    working = working_data(window.project, view.wave_id)
+    row = int(np.flatnonzero(working.reasons["agree_6"].isna().to_numpy())[0])
+    record(
+        window.project,
+        view.wave_id,
+        [Decision(Action.SET_MISSING, "Answer given twice on paper", ("agree_6",), row=row)],
+    )
+    assert window.view is view
+    row_index = _row(view, "agree_6")
+    assert int(view.item_model.text(row_index, "n_missing")) == before + 1
+    assert view.item_model.text(row_index, "set_missing") == "1"
+    assert view.breakdown is not None and view.breakdown.variable == "agree_6"
+    assert int(view.breakdown.table["set_missing"].sum()) == 1
+    window.undo.undo_action.trigger()
+    assert int(view.item_model.text(_row(view, "agree_6"), "n_missing")) == before
+    assert view.item_model.column_of("set_missing") == -1
