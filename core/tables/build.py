@@ -234,3 +234,49 @@ def _dispatch(ctx: Context, kind: str, target: str) -> TableResult:
     if kind == "ranking":
         return ranking.ranking_table(ctx, target)
     return multiselect.multiselect_table(ctx, target)
+
+
+def available_tables(codebook: Codebook) -> list[dict[str, str]]:
+    """What can be tabulated, in questionnaire order: one entry per question.
+
+    Each entry is ``{"name", "label", "family"}``; a group (battery, ranking, option
+    columns) appears once under its group name, before the items of a battery (which can also
+    be tabulated one by one). Text, identifiers and dates are left out.
+    """
+    from core.tables.captions import group_title
+    from core.tables.context import variable_title
+
+    out: list[dict[str, str]] = []
+    seen: set[str] = set()
+    groups = codebook.groups()
+    for var in codebook:
+        if var.group and var.group not in seen:
+            seen.add(var.group)
+            try:
+                family, _ = table_kind(codebook, var.group)
+            except TableError:
+                family = ""
+            if family and var.group not in codebook:
+                members = groups[var.group]
+                out.append(
+                    {
+                        "name": var.group,
+                        "family": family,
+                        "label": group_title(var.group, [m.question for m in members]),
+                    }
+                )
+        try:
+            family, target = table_kind(codebook, var.name)
+        except TableError:
+            continue
+        if target != var.name:
+            continue  # an option or place column: its group stands for it
+        out.append(
+            {"name": var.name, "family": family, "label": variable_title(codebook, var.name)}
+        )
+    return out
+
+
+def breakdown_choices(codebook: Codebook) -> list[str]:
+    """Variables that can break a table down: those with answer categories."""
+    return [v.name for v in codebook if v.kind.has_levels]

@@ -13,7 +13,7 @@ import pandas as pd
 
 from core.codebook import Codebook, Variable
 from core.errors import TableError
-from core.tables.captions import Notes, short_title
+from core.tables.captions import Notes, common_stem, item_label, short_title
 from core.tables.result import Cell
 from core.tables.spec import TableSpec
 from core.treatments import Treated
@@ -147,10 +147,24 @@ def pct(n: float, base: float) -> float | None:
 
 
 def label_of(ctx: Context, name: str) -> str:
-    var = ctx.codebook.get(name)
-    if var is not None:
-        return short_title(var.label)
-    return name
+    return variable_title(ctx.codebook, name)
+
+
+def variable_title(codebook: Codebook, name: str) -> str:
+    """A variable's title: its question text shortened; for an item of a group, the item's
+    own words without the stem the group shares ("I felt welcome in my cohort.")."""
+    var = codebook.get(name)
+    if var is None:
+        return name
+    if var.group:
+        members = codebook.groups().get(var.group, [])
+        stem = common_stem([m.question for m in members])
+        if stem:
+            own = item_label(var.question, stem, var.name)
+            head = stem.rstrip(" -–—:")
+            # A bare "Tutoring" needs its question; a full statement stands on its own.
+            return short_title(f"{head} – {own}") if len(own) < 20 and head else own
+    return short_title(var.label)
 
 
 def by_label(ctx: Context, name: str) -> str:

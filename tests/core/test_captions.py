@@ -132,3 +132,29 @@ def test_small_cell_note_and_small_base_caution(project):
     assert not any("Only 30 people" in n for n in result.notes)
     off = compute_table(project, TableSpec("site", min_cell=0))
     assert not any("Small-cell" in n or "hidden" in n for n in off.notes)
+
+
+def test_titles_of_group_items(tmp_path):
+    from core.codebook import Codebook
+    from core.tables.build import available_tables, breakdown_choices
+
+    stem = "Thinking about the course, how much do you agree?"
+    cb = Codebook(
+        [
+            Variable(
+                "a1",
+                f"{stem} - I felt welcome in my cohort and supported.",
+                "likert",
+                levels=["No", "Yes"],
+                group="agree",
+            ),
+            Variable("a2", f"{stem} - Tools", "likert", levels=["No", "Yes"], group="agree"),
+            Variable("note", "Anything else?", "text"),
+        ]
+    )
+    tables = available_tables(cb)
+    assert [t["name"] for t in tables] == ["agree", "a1", "a2"]
+    assert tables[0] == {"name": "agree", "family": "battery", "label": stem}
+    assert tables[1]["label"] == "I felt welcome in my cohort and supported."
+    assert tables[2]["label"] == f"{stem} – Tools"
+    assert breakdown_choices(cb) == ["a1", "a2"]
