@@ -226,12 +226,20 @@ def _as_text(value: Any) -> str | None:
     return str(value)
 
 
+_NUMBER_TEXT = r"^\s*[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?\s*$"
+
+
 def _parse_numbers(texts: list[str]) -> dict[str, float]:
-    """Texts that read as plain numbers (``"007"`` -> 7.0)."""
+    """Texts that read as plain numbers (``"007"`` -> 7.0), found in compiled code."""
     if not texts:
         return {}
-    parsed = pd.to_numeric(pd.Series(texts, dtype=object), errors="coerce").to_numpy(dtype=float)
-    return {t: float(x) for t, x in zip(texts, parsed) if not math.isnan(x)}
+    arr = pa.array(texts, pa.large_string())
+    is_number = pc.match_substring_regex(arr, _NUMBER_TEXT)
+    if not pc.any(is_number).as_py():
+        return {}
+    numeric = pc.cast(pc.utf8_trim_whitespace(arr.filter(is_number)), pa.float64())
+    picked = np.flatnonzero(is_number.to_numpy(zero_copy_only=False))
+    return {texts[i]: float(x) for i, x in zip(picked, numeric.to_numpy(zero_copy_only=False))}
 
 
 # ---------------------------------------------------------------------------- missing codes
@@ -257,13 +265,15 @@ def _missing_codes(p: _Profile) -> dict[str, MissingReason]:
     declared = _declared_codes(p.question)
     # Full normalisation ("9 - Don't know.") for ordinary answer lists; columns of many
     # distinct texts (ids, comments) are only checked for the plain phrases.
-    thorough = len(p.values) <= 1000
-    for text in p.values:
-        if thorough:
-            hit, reason = _phrase_reason(text)
-        else:
-            key = text.lower().replace("’", "'")
-            hit, reason = key in MISSING_PHRASES, MISSING_PHRASES.get(key)
+    if len(p.values) <= 1000:
+        candidates = p.values
+    else:
+        lowered = pc.utf8_lower(pa.array(p.values, pa.large_string()))
+        known = pa.array(list(MISSING_PHRASES), pa.large_string())
+        hits = np.flatnonzero(pc.is_in(lowered, value_set=known).to_numpy(zero_copy_only=False))
+        candidates = [p.values[i] for i in hits]
+    for text in candidates:
+        hit, reason = _phrase_reason(text)
         if hit:
             codes[text] = reason if reason is not None else MissingReason.SKIPPED
     # Negative sentinels beside non-negative answers: -99 in an age column.
@@ -471,9 +481,12 @@ def _guess_column(p: _Profile) -> _Guess:
     if p.is_date_column:
         return _Guess(Kind.DATE, personal=bool(_PERSONAL_NAME["birth"].search(p.name)))
     codes = _missing_codes(p)
-    keep = [i for i, v in enumerate(p.values) if v not in codes]
-    answers = [p.values[i] for i in keep]
-    counts = p.counts[keep] if len(p.counts) else np.zeros(0, dtype=np.int64)
+    if codes:
+        keep = [i for i, v in enumerate(p.values) if v not in codes]
+        answers = [p.values[i] for i in keep]
+        counts = p.counts[keep] if len(p.counts) else np.zeros(0, dtype=np.int64)
+    else:
+        answers, counts = p.values, p.counts
     guess = _Guess(Kind.TEXT, missing_codes=codes, answers=answers, answer_counts=counts)
     personal = _personal(p, answers)
     guess.personal = personal is not None
@@ -482,13 +495,13 @@ def _guess_column(p: _Profile) -> _Guess:
         return guess
     if personal in ("email", "phone", "name", "national_id"):
         return guess  # open text, marked personal; never a category to tabulate
-    numbers = [p.numbers.get(a) for a in answers]
-    all_numeric = all(x is not None for x in numbers)
+    coded_numbers = sum(1 for c in codes if c in p.numbers)
+    all_numeric = len(p.numbers) - coded_numbers == len(answers)
     if all_numeric and _looks_like_id(p, answers, counts):
         guess.kind = Kind.IDENTIFIER
         return guess
     if all_numeric:
-        nums = [float(x) for x in numbers if x is not None]
+        nums = [p.numbers[a] for a in answers]
         guess.kind = Kind.NUMERIC
         if _is_integer(nums) and min(nums) >= 0 and max(nums) <= 7:
             rated = _numbered_scale(p.question, nums)
@@ -503,12 +516,20 @@ def _guess_column(p: _Profile) -> _Guess:
     if _looks_like_id(p, answers, counts):
         guess.kind = Kind.IDENTIFIER
         return guess
-    match = scales.match_labels(answers)
+    if _dates(answers):
+        guess.kind = Kind.DATE
+        return guess
+    n_answers = int(counts.sum())
+    if len(answers) > 5000 or (len(answers) > 100 and len(answers) > 0.5 * n_answers):
+        # Thousands of different texts are open answers, whatever else they hold.
+        guess.kind = Kind.TEXT
+        return guess
+    match = scales.match_labels(answers) if len(answers) <= 60 else None
     if match is not None:
         guess.kind = Kind.LIKERT
         guess.levels, guess.value_labels = match.levels()
         return guess
-    ordered = scales.match_ordered(answers)
+    ordered = scales.match_ordered(answers) if len(answers) <= 60 else None
     if ordered is not None:
         guess.kind = Kind.ORDINAL
         guess.levels, guess.value_labels = ordered.levels()
@@ -518,15 +539,11 @@ def _guess_column(p: _Profile) -> _Guess:
         guess.kind = Kind.ORDINAL
         guess.levels = bands
         return guess
-    if _dates(answers):
-        guess.kind = Kind.DATE
-        return guess
     multi = _delimited(answers, counts)
     if multi is not None:
         guess.kind = Kind.MULTISELECT
         guess.delimiter, guess.levels = multi
         return guess
-    n_answers = int(counts.sum())
     words = np.array([len(a.split()) for a in answers], dtype=float)
     mean_words = float((words * counts).sum() / max(n_answers, 1))
     distinct_share = len(answers) / max(n_answers, 1)
