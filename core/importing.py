@@ -113,7 +113,8 @@ def import_file(
         # A later wave: match its columns and answers to the codebook (the given maps win).
         match = match_wave(base, frame, questions, column_map=column_map, level_maps=level_maps)
         column_map = match.column_map
-        level_maps = {**match.level_maps, **(level_maps or {})}
+        given = {n: {a: lv for a, lv in m.items() if lv} for n, m in (level_maps or {}).items()}
+        level_maps = {**match.level_maps, **{n: m for n, m in given.items() if m}}
         report["match"] = match.to_json()
     if column_map:
         frame, questions, renamed = _rename(frame, questions, column_map)

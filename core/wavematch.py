@@ -402,7 +402,7 @@ def match_wave(
     column_map, level_maps
         The evaluator's own decisions; they override the matcher. A column mapped to its
         own name that the codebook lacks is a new question; ``level_maps`` are keyed by
-        codebook name.
+        codebook name, and an answer mapped to "" is left as it is (no guess is made).
 
     Returns
     -------
@@ -563,14 +563,19 @@ def _match_levels(
                         counts.get(answer, 0),
                     )
                 )
-        unknown = {t: n for t, n in unknown_answers(var, counts).items() if t not in chosen}
+        # An answer mapped to "" was left as it is on purpose: no guess is made for it.
+        unknown = {
+            t: n
+            for t, n in unknown_answers(var, counts).items()
+            if t not in chosen or not chosen[t]
+        }
         if not unknown:
             continue
         used = {level_of(var, t) for t in counts} - {None}
-        used |= {lv for lv in chosen.values()}
+        used |= {lv for lv in chosen.values() if lv}
         left = []
         for answer, n in sorted(unknown.items(), key=lambda kv: -kv[1]):
-            found = _level_for(var, answer, used)
+            found = None if answer in chosen else _level_for(var, answer, used)
             if found is None:
                 left.append(answer)
                 continue
@@ -580,7 +585,7 @@ def _match_levels(
                 used.add(level)
         # One new answer where exactly one level no longer occurs: likely its new wording.
         free = [lv for lv in var.levels if lv not in used]
-        if len(left) == 1 and len(free) == 1 and var.kind.ordered:
+        if len(left) == 1 and len(free) == 1 and var.kind.ordered and left[0] not in chosen:
             report.levels.append(
                 LevelMatch(
                     var.name,

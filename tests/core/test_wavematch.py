@@ -254,3 +254,13 @@ def test_import_matches_a_renamed_column_by_question_text(tmp_path):
         )
         assert "weekly_hours" in kept.codebook
         assert kept.report["match"]["column_map"] == {}
+
+
+def test_an_answer_left_as_it_is_gets_no_guess():
+    frame = _frame()
+    frame["agree_1"] = frame["agree_1"].replace({"Strongly agree": "Completely agree"})
+    report = match_wave(
+        _codebook(), frame, QUESTIONS, level_maps={"agree_1": {"Completely agree": ""}}
+    )
+    assert "agree_1" not in report.level_maps
+    assert report.unknown_answers["agree_1"] == ["Completely agree"]
