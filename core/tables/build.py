@@ -22,6 +22,7 @@ from core.tables.captions import (
     source_note,
 )
 from core.tables.context import Context, by_title
+from core.tables.likert import NEGATIVE_NOTE
 from core.tables.result import TableResult
 from core.tables.spec import TableSpec
 from core.treatments import apply_treatment, treatment_notes
@@ -153,6 +154,11 @@ def table_for_working(
         population=bool(settings.get("population", True)),
     )
     result = _dispatch(ctx, kind, target)
+    var = codebook.get(target)
+    if result.table_type == "crosstab" and var is not None and var.keying == "negative":
+        head, sep, tail = result.title.partition(" — by ")
+        result.title = f"{head} (negatively worded){sep}{tail}"
+        ctx.notes.method.append(NEGATIVE_NOTE)
     if spec.by and " — by " not in result.title:
         result.title = by_title(ctx, result.title)
     notes = ctx.notes
