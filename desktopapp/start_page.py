@@ -8,12 +8,13 @@ from pathlib import Path
 from typing import Any
 
 from PySide6.QtCore import QModelIndex, QRect, QSize, Qt, Signal
-from PySide6.QtGui import QFont, QPainter, QPalette
+from PySide6.QtGui import QFont, QKeySequence, QPainter, QPalette, QShortcut
 from PySide6.QtWidgets import (
     QHBoxLayout,
     QLabel,
     QListWidget,
     QListWidgetItem,
+    QMenu,
     QPushButton,
     QSizePolicy,
     QStyle,
@@ -172,6 +173,9 @@ class StartPageWidget(QWidget):
         self.recent_list.setObjectName("recentList")
         self.recent_list.setItemDelegate(RecentProjectDelegate(self.recent_list))
         self.recent_list.setUniformItemSizes(True)
+        self.recent_list.setContextMenuPolicy(Qt.ContextMenuPolicy.CustomContextMenu)
+        self._forget_shortcut = QShortcut(QKeySequence.StandardKey.Delete, self.recent_list)
+        self._forget_shortcut.setContext(Qt.ShortcutContext.WidgetShortcut)
         self.recent_list.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Fixed)
         self.empty_label = QLabel(
             "Projects you open will be listed here. A project is one file that holds the "
@@ -214,6 +218,8 @@ class StartPageWidget(QWidget):
         self.open_button.clicked.connect(self.open_requested)
         self.demo_button.clicked.connect(self.demo_requested)
         self.recent_list.itemActivated.connect(self._on_recent_list_item_activated)
+        self.recent_list.customContextMenuRequested.connect(self._on_recent_list_menu_requested)
+        self._forget_shortcut.activated.connect(self._on_forget_shortcut_activated)
 
     def refresh(self) -> None:
         """Re-read the recent projects."""
@@ -230,6 +236,29 @@ class StartPageWidget(QWidget):
         self.recent_list.setFixedHeight(row_h * len(entries) + 2 * self.recent_list.frameWidth())
         self.recent_list.setVisible(bool(entries))
         self.empty_label.setVisible(not entries)
+
+    def forget(self, path: str) -> None:
+        """Take a project off the list (the file itself is left alone)."""
+        self._recent.remove(path)
+        self.refresh()
+
+    def _on_recent_list_menu_requested(self, pos: Any) -> None:
+        item = self.recent_list.itemAt(pos)
+        if item is None:
+            return
+        menu = QMenu(self)
+        open_action = menu.addAction("Open")
+        forget_action = menu.addAction("Remove from this list")
+        chosen = menu.exec(self.recent_list.viewport().mapToGlobal(pos))
+        if chosen is open_action:
+            self.open_path_requested.emit(item.data(PATH_ROLE))
+        elif chosen is forget_action:
+            self.forget(item.data(PATH_ROLE))
+
+    def _on_forget_shortcut_activated(self) -> None:
+        item = self.recent_list.currentItem()
+        if item is not None:
+            self.forget(item.data(PATH_ROLE))
 
     def _on_recent_list_item_activated(self, item: QListWidgetItem) -> None:
         self.open_path_requested.emit(item.data(PATH_ROLE))

@@ -15,7 +15,15 @@ from typing import Any
 import numpy as np
 import pandas as pd
 from PySide6.QtCore import QRectF, QSize, Qt, Signal
-from PySide6.QtGui import QColor, QDoubleValidator, QFont, QPainter, QPalette
+from PySide6.QtGui import (
+    QColor,
+    QDoubleValidator,
+    QFont,
+    QKeySequence,
+    QPainter,
+    QPalette,
+    QShortcut,
+)
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QButtonGroup,
@@ -565,6 +573,7 @@ class CodebookView(QWidget):
         layout.setContentsMargins(0, 0, 0, 0)
         layout.addWidget(self.splitter)
 
+        self._find_shortcut = QShortcut(QKeySequence.StandardKey.Find, self)
         self._connect_signals()
         self._fill_waves()
         self._update_list()
@@ -577,6 +586,7 @@ class CodebookView(QWidget):
     # ------------------------------------------------------------------ setup
     def _connect_signals(self) -> None:
         self.search_edit.textChanged.connect(self._on_search_edit_changed)
+        self._find_shortcut.activated.connect(self._on_find_shortcut_activated)
         self.variable_tree.currentItemChanged.connect(self._on_variable_tree_current_changed)
         self.question_edit.editing_finished.connect(self._on_question_edit_finished)
         self.kind_combo.activated.connect(self._on_kind_combo_activated)
@@ -725,6 +735,10 @@ class CodebookView(QWidget):
             first = self._first_variable_item()
             if first is not None:
                 self.variable_tree.setCurrentItem(first)
+
+    def _on_find_shortcut_activated(self) -> None:
+        self.search_edit.setFocus()
+        self.search_edit.selectAll()
 
     def _on_search_edit_changed(self, _text: str) -> None:
         self._update_list()

@@ -176,3 +176,12 @@ def test_title_says_saving_only_while_a_long_write_runs(qtbot, small_project_pat
     qtbot.waitUntil(lambda: not job.running, timeout=3000)
     assert window.windowTitle() == "Small test project — All changes saved — Plaincount"
     window.close_project()
+
+
+def test_a_recent_project_can_be_taken_off_the_list(window, small_project_path):
+    window.recent.add(small_project_path)
+    window.start_page.refresh()
+    window.start_page.forget(str(small_project_path.resolve()))
+    assert window.start_page.recent_list.count() == 0
+    assert window.start_page.empty_label.isVisibleTo(window.start_page)
+    assert small_project_path.exists()  # only the list entry goes
