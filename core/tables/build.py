@@ -108,13 +108,17 @@ def _knows(codebook: Codebook, name: str) -> bool:
 def table_variables(codebook: Codebook, spec: TableSpec) -> list[str]:
     """Every column a table reads: the variable (or the group's members) and break-downs."""
     var = codebook.get(spec.variable)
-    if var is not None and not (
-        var.kind in (Kind.RANKING,) or (var.kind is Kind.MULTISELECT and not var.delimiter)
-    ):
-        names = [var.name]
-    else:
+    # Place and option columns stand for their whole question group.
+    whole_group = (
+        var is None
+        or var.kind is Kind.RANKING
+        or (var.kind is Kind.MULTISELECT and not var.delimiter)
+    )
+    if whole_group:
         group = spec.variable if var is None else (var.group or spec.variable)
         names = [m.name for m in codebook.members(group)]
+    else:
+        names = [var.name]
     return [*names, *[b for b in spec.by if b not in names]]
 
 
