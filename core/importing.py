@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import os
 import re
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -25,7 +26,7 @@ from core.codebook import Codebook, Variable
 from core.errors import ImportFailed, PlaincountError
 from core.inference import infer_codebook, kind_summary
 from core.progress import Progress, ensure_progress
-from core.project import Project, Wave
+from core.project import Project, Wave, table_to_parquet
 from core.readers import read_source
 from core.wavematch import MatchReport, match_wave
 
@@ -108,6 +109,12 @@ def import_file(
     )
     frame, questions = source.frame, dict(source.questions)
     report: dict[str, Any] = dict(source.report)
+    # Compress the raw table on another thread while the codebook is inferred: the two
+    # together take about as long as the slower of them.
+    pool = ThreadPoolExecutor(max_workers=1)
+    blob_job = pool.submit(table_to_parquet, frame)
+    pool.shutdown(wait=False)
+
     base = project.codebook(existing_inst.id) if existing_inst else Codebook()
     if len(base):
         # A later wave: match its columns and answers to the codebook (the given maps win).
@@ -158,7 +165,14 @@ def import_file(
         inst_id = existing_inst.id
     try:
         stored = project.add_wave(
-            inst_id, label, path.name, data, frame, import_report=report, codebook=merged
+            inst_id,
+            label,
+            path.name,
+            data,
+            frame,
+            import_report=report,
+            codebook=merged,
+            raw_blob=blob_job.result(),
         )
     except BaseException:
         if created is not None:

@@ -486,14 +486,19 @@ class Project:
         raw: pd.DataFrame,
         import_report: dict[str, Any] | None = None,
         codebook: Codebook | None = None,
+        raw_blob: bytes | None = None,
     ) -> Wave:
-        """Store a new wave (and optionally the instrument's new codebook) atomically."""
+        """Store a new wave (and optionally the instrument's new codebook) atomically.
+
+        ``raw_blob`` is ``table_to_parquet(raw)`` when the caller has already made it (import
+        makes it on another thread while it infers the codebook).
+        """
         label = label.strip()
         if not label:
             raise ProjectError("A wave needs a label, such as the year.")
         if any(w.label == label for w in self.waves(instrument_id)):
             raise ProjectError(f"This instrument already has a wave labelled {label!r}.")
-        blob = table_to_parquet(raw)
+        blob = raw_blob if raw_blob is not None else table_to_parquet(raw)
         with self.transaction() as conn:
             (position,) = conn.execute(
                 "SELECT COALESCE(MAX(position), 0) + 1 FROM waves WHERE instrument_id = ?",

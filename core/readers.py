@@ -604,7 +604,9 @@ def _arrow_csv(utf8: bytes, delim: str, nrows: int | None) -> pa.Table:
     types = {f"f{i}": pa.large_string() for i in range(4096)}
     opts = {
         "read_options": pacsv.ReadOptions(autogenerate_column_names=True),
-        "parse_options": pacsv.ParseOptions(delimiter=delim, newlines_in_values=True),
+        # Line breaks inside quoted cells need the slower serial parse; without quotes
+        # there can be none.
+        "parse_options": pacsv.ParseOptions(delimiter=delim, newlines_in_values=b'"' in utf8),
         "convert_options": pacsv.ConvertOptions(
             column_types=types,
             strings_can_be_null=True,
