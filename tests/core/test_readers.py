@@ -382,3 +382,19 @@ def test_unsupported_document_is_refused(tmp_path):
     docx.write_bytes(buf.getvalue())
     with pytest.raises(ImportFailed, match="Word document"):
         read_source(docx)
+
+
+def test_openpyxl_reads_what_calamine_cannot(tmp_path, monkeypatch):
+    import python_calamine
+
+    class Refusing:
+        @classmethod
+        def from_filelike(cls, *args, **kwargs):
+            raise python_calamine.CalamineError("unsupported feature")
+
+    path = write_xlsx(tmp_path / "odd.xlsx", {"Data": [["id", "score"], ["A", 2.5], ["B", None]]})
+    monkeypatch.setattr(python_calamine, "CalamineWorkbook", Refusing)
+    table = read_source(path)
+    assert list(table.frame.columns) == ["id", "score"]
+    assert cells(table.frame, "score") == [2.5, None]
+    assert list_sheets(path) == ["Data"]
