@@ -234,6 +234,10 @@ class ImportDialog(QDialog):
         self._edited: set[str] = set()
         self._questions: dict[str, str] = {}
         self._known: set[str] = set()
+        self._preview_table: Any = None
+        # The evaluator's answer to the wave review: (column_map, level_maps), or None.
+        self.wave_choices: tuple[dict[str, str], dict[str, dict[str, str]]] | None = None
+        self.wave_review: QDialog | None = None
         self._filling = False
         self.setWindowTitle(f"Import {self.path.name}")
         self.resize(1100, 760)
@@ -542,6 +546,7 @@ class ImportDialog(QDialog):
             "column name to see its question text."
         )
         self._raw_inferred = inferred
+        self._preview_table = table
         self._inferred_rows = min(len(frame), INFER_ROWS)
         self._apply_known_entries()
         self.import_button.setEnabled(True)
@@ -556,6 +561,7 @@ class ImportDialog(QDialog):
         self._known = {v.name for v in inferred if v.name in known}
         self._inferred = Codebook(known.get(v.name) or v for v in inferred)
         self._edited.clear()
+        self.wave_choices = None  # another questionnaire or reading: review again
         self._fill_columns()
         self.columns_note.setText(
             "Plaincount guessed what each column holds from the first "
@@ -698,6 +704,9 @@ class ImportDialog(QDialog):
         if not wave:
             self._show_error(PlaincountError("Give the wave a label, such as the year."))
             return None
+        if self.wave_choices is None and self._review_wave_match(wave):
+            return None  # the import goes on when the review is confirmed
+        column_map, level_maps = self.wave_choices or ({}, {})
         project, path, settings = self.project, self.path, self.read_settings()
 
         def work(progress: Any) -> Any:
@@ -710,6 +719,8 @@ class ImportDialog(QDialog):
                 wave=wave,
                 codebook=codebook,
                 progress=progress,
+                column_map=column_map or None,
+                level_maps=level_maps or None,
                 **settings,
             )
 
@@ -726,6 +737,26 @@ class ImportDialog(QDialog):
         if self.job.running:
             self.job.progress_changed.connect(self._on_job_progress_changed)
         return self.job
+
+    def _review_wave_match(self, wave: str) -> bool:
+        """Show how the file lines up with the questionnaire's codebook (when it is not
+        plain); True while the review is open."""
+        from desktopapp.wave_match_dialog import review_if_needed
+
+        inst = self._existing_instrument()
+        table = self._preview_table
+        if inst is None or table is None:
+            return False
+
+        def confirmed(column_map: dict[str, str], level_maps: dict[str, dict[str, str]]) -> None:
+            self.wave_choices = (column_map, level_maps)
+            self.start_import()
+
+        codebook = self.project.codebook(inst.id)
+        self.wave_review = review_if_needed(
+            self, codebook, table.frame, table.questions, wave, confirmed
+        )
+        return self.wave_review is not None
 
     def _on_job_progress_changed(self, done: int, total: int, label: str) -> None:
         if total > 0:
