@@ -504,6 +504,13 @@ def _text_grid(
         raise ImportFailed(f"{name} contains no data: only empty lines.")
     sample = utf8[:131072].decode("utf-8", errors="ignore")
     _refuse_non_table(sample, name)
+    # Some spreadsheets write a first line "sep=;" naming the separator.
+    hint = re.match(r"sep=(.)\r?\n", sample)
+    if hint:
+        utf8 = utf8[len(hint.group(0).encode("utf-8")) :]
+        sample = sample[len(hint.group(0)) :]
+        if delimiter is None:
+            delimiter = hint.group(1)
     if delimiter is not None:
         delim = {"tab": "\t", "\\t": "\t", "comma": ",", "semicolon": ";"}.get(delimiter, delimiter)
         if len(delim) != 1:
@@ -840,6 +847,20 @@ def _assemble(grid: _Grid, header_rows: int | None, progress: Progress, name: st
     lead = 0
     while lead < len(head) and not any(_cell_text(v) for v in head[lead]):
         lead += 1
+    # Title lines above a wide table ("Participant survey export, March 2026" alone in the
+    # first cell) are not the header.
+    titles: list[str] = []
+    while grid.width >= 3 and lead < min(len(head), 4) and header_rows is None:
+        filled = [_cell_text(v) for v in head[lead] if _cell_text(v)]
+        below = [r for r in head[lead + 1 :] if any(_cell_text(v) for v in r)]
+        if len(filled) != 1 or not below:
+            break
+        if sum(1 for v in below[0] if _cell_text(v)) < max(2, 0.5 * grid.width):
+            break
+        titles.append(filled[0])
+        lead += 1
+        while lead < len(head) and not any(_cell_text(v) for v in head[lead]):
+            lead += 1
     detected = header_rows is None
     if header_rows is None:
         header_rows = detect_header_rows(head[lead:], grid.text_source)
@@ -918,6 +939,7 @@ def _assemble(grid: _Grid, header_rows: int | None, progress: Progress, name: st
     frame.index = pd.RangeIndex(len(frame))
 
     report: dict[str, Any] = {
+        "title_rows": titles,
         "header_rows": header_rows,
         "header_rows_detected": detected,
         "first_data_row": grid.start_row + skip,
@@ -950,6 +972,8 @@ def _unique(base: str, taken: set[str]) -> str:
 def _notes(report: dict[str, Any]) -> list[str]:
     """Plain sentences about every decision the reader made."""
     notes = []
+    for title in report.get("title_rows", []):
+        notes.append(f"A title line above the table was left out: {title!r}.")
     h = report["header_rows"]
     how = "found" if report["header_rows_detected"] else "as you chose"
     if h == 2:

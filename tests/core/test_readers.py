@@ -398,3 +398,19 @@ def test_openpyxl_reads_what_calamine_cannot(tmp_path, monkeypatch):
     assert list(table.frame.columns) == ["id", "score"]
     assert cells(table.frame, "score") == [2.5, None]
     assert list_sheets(path) == ["Data"]
+
+
+def test_title_line_and_separator_hint_are_not_data(tmp_path):
+    path = write_xlsx(
+        tmp_path / "t.xlsx",
+        {"S": [["Participant survey export"], [], ["id", "age", "site"], ["A", 30, "North"]]},
+    )
+    table = read_source(path)
+    assert list(table.frame.columns) == ["id", "age", "site"]
+    assert table.report["title_rows"] == ["Participant survey export"]
+    assert cells(table.frame, "age") == [30.0]
+    csv = tmp_path / "hint.csv"
+    csv.write_text("sep=;\nid;note\n1;a,b\n", encoding="utf-8")
+    table = read_source(csv)
+    assert table.report["delimiter"] == ";"
+    assert cells(table.frame, "note") == ["a,b"]
