@@ -162,15 +162,23 @@ class WaveMatchDialog(QDialog):
 
     def _summary_text(self) -> str:
         r = self.report
-        parts = [f"{len(r.matched)} column(s) have the same name as in the codebook"]
+        parts = [
+            f"{_n(len(r.matched), 'column has', 'columns have')} the same name as in the codebook"
+        ]
         if r.renamed:
-            parts.append(f"{len(r.renamed)} were renamed")
+            parts.append(f"{_n(len(r.renamed), 'was', 'were')} renamed")
         if r.uncertain:
-            parts.append(f"{len(r.uncertain)} may match an entry (not applied unless you accept)")
+            parts.append(
+                f"{_n(len(r.uncertain), 'may match an entry', 'may match entries')} (not "
+                "applied unless you accept)"
+            )
         if r.new:
-            parts.append(f"{len(r.new)} are new questions")
+            parts.append(f"{_n(len(r.new), 'is a new question', 'are new questions')}")
         if r.missing:
-            parts.append(f"{len(r.missing)} codebook entries have no column in this file")
+            parts.append(
+                f"{_n(len(r.missing), 'codebook entry has', 'codebook entries have')} no column "
+                "in this file"
+            )
         return (
             "; ".join(parts)
             + ". Change anything that is wrong: choose the codebook entry a column should be "
@@ -364,6 +372,10 @@ def review_if_needed(
     dialog.setWindowModality(Qt.WindowModality.WindowModal)
     dialog.open()
     return dialog
+
+
+def _n(count: int, one: str, many: str) -> str:
+    return f"{count} {one if count == 1 else many}"
 
 
 def _item(text: str) -> QTableWidgetItem:
