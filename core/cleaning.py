@@ -19,7 +19,7 @@ from typing import Any
 import pandas as pd
 
 from core.checks import CheckRun, CheckSettings, Flag, check_run, sort_flags
-from core.checks.flag import CHECK_IDS, Context
+from core.checks.flag import CHECK_IDS, CHECK_LABELS, Context
 from core.checks.settings import settings_for_wave
 from core.checks.straightlining import battery_items
 from core.errors import PlaincountError
@@ -164,6 +164,26 @@ def respondent_row(working: WorkingData, row: int, flags: Iterable[Flag] = ()) -
             )
         )
     return out
+
+
+def cell_note(working: WorkingData, row: int, variable: str) -> str | None:
+    """A tooltip for an edited cell of the data grid: original value, new value, and the
+    decisions that changed it with their reasons; None for an unedited cell."""
+    edits = working.edits.get((row, variable))
+    if not edits:
+        return None
+    ctx = _context(working)
+    raw = ctx.raw_text(row, variable)
+    now = ctx.shown(row, variable)
+    lines = [
+        f"Original: {raw if raw is not None else '(blank)'}",
+        f"Now: {'(missing)' if now is None else now}",
+    ]
+    for e in edits:
+        check = f" ({CHECK_LABELS.get(e.check, e.check).lower()})" if e.check else ""
+        who = f", {e.author}" if e.author else ""
+        lines.append(f"{e.action.label}{check}: {e.reason} (entry {e.id}, {e.created[:10]}{who})")
+    return "\n".join(lines)
 
 
 def find_row(
@@ -583,6 +603,7 @@ __all__ = [
     "FlagGroup",
     "apply_rules_to_wave",
     "cell_decision",
+    "cell_note",
     "decide",
     "decide_many",
     "decision_for",

@@ -161,6 +161,11 @@ def test_respondent_row_marks_flagged_and_edited_cells(wave):
         c.variable: c for c in cleaning.respondent_row(working_data(project, wave_id), 3, run.flags)
     }
     assert row3["age"].flags == ("range",) and not row3["age"].edited
+    note = cleaning.cell_note(working_data(project, wave_id), 5, "credits_term")
+    lines = note.splitlines()
+    assert lines[:2] == ["Original: 120", "Now: 12"]
+    assert lines[2].startswith("Corrected (wandering zero): Paper form (entry 1, 20")
+    assert cleaning.cell_note(working_data(project, wave_id), 3, "age") is None
 
 
 def test_refresh_matches_a_full_run(wave):
