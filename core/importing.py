@@ -133,6 +133,10 @@ def import_file(
         for var in codebook:
             base = base.with_variable(var)
     known = [c for c in frame.columns if c in base]
+    for name in known:
+        # A known variable without question text takes it from this file's second header row.
+        if not base[name].question and questions.get(name):
+            base = base.with_variable(base[name].updated({"question": questions[name]}))
     new_cols = [c for c in frame.columns if c not in base]
     first_position = max((v.position for v in base), default=0) + 1
     inferred = infer_codebook(
