@@ -672,10 +672,11 @@ class MissingDataView(QWidget):
         self.matrix_chart.set_drawer(lambda fig: draw_missing_matrix(working, fig))
         self._request_paragraphs()
         if first and self._current_item is None and loaded.start_item is not None:
-            if loaded.start_by is not None:
-                index = self.group_combo.findData(loaded.start_by)
-                if index >= 0:
-                    self.group_combo.setCurrentIndex(index)
+            others = [name for name, _q in loaded.groupings if name != loaded.start_item]
+            start_by = loaded.start_by or (others[0] if others else None)
+            index = self.group_combo.findData(start_by) if start_by else -1
+            if index >= 0:
+                self.group_combo.setCurrentIndex(index)
             self.select_item(loaded.start_item)
         elif self._current_item is not None:
             self._select_row_quietly(self._current_item)
@@ -690,7 +691,7 @@ class MissingDataView(QWidget):
         cols = [
             Column("position", "No.", "int", "Place in the questionnaire"),
             Column("variable", "Item", "text"),
-            Column("label", "Question", "text"),
+            Column("question", "Question", "text"),
             Column("n_answered", "Answered", "int", "Respondents with a usable answer"),
             Column("n_missing", "Missing", "int", "Respondents without a usable answer"),
             Column(
@@ -724,9 +725,14 @@ class MissingDataView(QWidget):
 
     def _show_items(self, items: pd.DataFrame) -> None:
         current = self._current_item
-        self.item_model.set_frame(items, self._item_columns(items))
+        frame = items.copy()
+        codebook = self.loaded.working.codebook if self.loaded is not None else None
+        frame["question"] = (
+            own_words(codebook, list(frame["variable"])) if codebook is not None else []
+        )
+        self.item_model.set_frame(frame, self._item_columns(frame))
         header = self.item_table.horizontalHeader()
-        _fit_columns(header, stretch=self.item_model.column_of("label"))
+        _fit_columns(header, stretch=self.item_model.column_of("question"))
         n_above = int(items["above_threshold"].sum()) if len(items) else 0
         self.marker_count_label.setText(
             f"{n_above} of {len(items)} items marked"
@@ -737,7 +743,7 @@ class MissingDataView(QWidget):
             self._select_row_quietly(current)
 
     def _item_tooltip(self, row: pd.Series, col: Column) -> str | None:
-        if col.key in ("variable", "label"):
+        if col.key in ("variable", "question"):
             return f"{row['variable']} ({row['kind']}): {row['label']}"
         return None
 
@@ -859,8 +865,12 @@ class MissingDataView(QWidget):
             )
             return
         if by == item:
+            alone = self.group_combo.count() < 2
             self._show_breakdown_message(
-                f"{item} cannot be broken down by itself; choose another question."
+                f"{item} is the only category question with 2 to 8 answers in this wave, so "
+                "there is nothing else to group it by."
+                if alone
+                else f"{item} cannot be broken down by itself; choose another question."
             )
             return
         working = self.loaded.working
@@ -913,13 +923,11 @@ class MissingDataView(QWidget):
             )
             test += expected
         self.breakdown_test.setText(test)
-        # The core's notes, less the test line already shown above, and always the caution.
+        # The core's notes, less the test line already shown above.
         notes = [n for n in result.notes if not n.startswith("Chi-square test")]
-        if not any("expected count" in n for n in notes):
-            notes.append(
-                "A chi-square p-value is only approximate when expected counts are small "
-                "(Cochran's rule: none below 1 and at most a fifth below 5)."
-            )
+        if result.p_value is not None:
+            # Cochran's verdict is in the test line above; the core's caution would repeat it.
+            notes = [n for n in notes if not n.startswith("Caution: some expected counts")]
         self.breakdown_notes.setText("\n\n".join(notes))
 
     def breakdown_percentages(self) -> dict[str, float]:
@@ -1102,6 +1110,30 @@ class MissingDataView(QWidget):
 
 
 # ---------------------------------------------------------------------- helpers
+def own_words(codebook: Any, names: Sequence[str]) -> list[str]:
+    """Each item's question without the opening words its group shares.
+
+    The items of a battery repeat one stem ("Thinking about the course, how much do you
+    agree: ..."); in a narrow column only the item's own words tell them apart.
+    """
+    from core.tables.captions import common_stem
+
+    stems: dict[str, str] = {}
+    for var in codebook:
+        if var.group and var.group not in stems:
+            stems[var.group] = common_stem([v.question for v in codebook if v.group == var.group])
+    out = []
+    for name in names:
+        var = codebook[name]
+        text = " ".join((var.label or "").split())
+        stem = stems.get(var.group or "", "")
+        if stem and text.startswith(stem) and len(text) > len(stem):
+            rest = text[len(stem) :].lstrip(" -–—:.?").strip()
+            text = f"… {rest}" if rest else text
+        out.append(text)
+    return out
+
+
 def _scan_columns() -> list[Column]:
     return [
         Column("variable", "Item", "text"),
@@ -1132,15 +1164,26 @@ def _scan_columns() -> list[Column]:
 
 
 def _fit_columns(header: QHeaderView, stretch: int | None) -> None:
-    """Size columns to their contents; one column (if any) takes the spare width."""
-    count = header.count()
-    for i in range(count):
-        mode = (
-            QHeaderView.ResizeMode.Stretch
-            if i == stretch
-            else QHeaderView.ResizeMode.ResizeToContents
-        )
-        header.setSectionResizeMode(i, mode)
+    """Size columns to their contents; one column (if any) takes the spare width.
+
+    In a sortable table Qt reserves room for the sort arrow in every heading, which would
+    leave the stretching column (the question text) too narrow at ordinary window sizes; the
+    widths are measured here instead, so only the sorted column's heading shares its room.
+    """
+    view = header.parent()
+    model = header.model()
+    sortable = isinstance(view, QTableView) and view.isSortingEnabled() and model is not None
+    metrics = header.fontMetrics()
+    for i in range(header.count()):
+        if i == stretch:
+            header.setSectionResizeMode(i, QHeaderView.ResizeMode.Stretch)
+        elif not sortable:
+            header.setSectionResizeMode(i, QHeaderView.ResizeMode.ResizeToContents)
+        else:
+            text = str(model.headerData(i, Qt.Orientation.Horizontal) or "")
+            heading = max(metrics.horizontalAdvance(line) for line in text.split("\n")) + 16
+            header.setSectionResizeMode(i, QHeaderView.ResizeMode.Interactive)
+            header.resizeSection(i, max(view.sizeHintForColumn(i), heading))
     header.setStretchLastSection(False)
 
 
