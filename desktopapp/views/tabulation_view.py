@@ -1,0 +1,1283 @@
+"""The tables node of a wave: pick a question, see its table and chart side by side.
+
+The left pane lists what can be tabulated, in questionnaire order: single questions, and
+question groups (a rating battery, a ranking, a choose-all question) as one selectable row
+with their items beneath. Above the results sit an optional break-down (one or two
+grouping questions) and the options that suit the chosen table; every change computes the
+table again on a worker (a newer request drops an older one's result) and redraws its chart.
+
+The table is a ``QTableView`` over the result's display cells, so numbers are right-aligned
+and formatted exactly as in every export. Its caption sits above, its base and notes below,
+with a link to the matching section of the methods guide. "Keep for report" stores the
+table's *specification* in the report outline with the evaluator's finding sentence; Copy
+puts the table (HTML and tab-separated text) or the chart (a PNG and its caption) on the
+clipboard, following which of the two has the focus.
+
+A second tab, the gallery (``desktopapp.views.gallery_view``), draws many small charts at
+once for scanning; clicking one opens it here.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import textwrap
+from collections.abc import Callable
+from dataclasses import dataclass, replace
+from pathlib import Path
+from typing import Any
+
+from PySide6.QtCore import QAbstractTableModel, QMimeData, QModelIndex, Qt, QUrl, Signal
+from PySide6.QtGui import (
+    QAction,
+    QBrush,
+    QColor,
+    QDesktopServices,
+    QFont,
+    QImage,
+    QKeySequence,
+    QPalette,
+)
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QApplication,
+    QCheckBox,
+    QComboBox,
+    QFrame,
+    QGridLayout,
+    QHBoxLayout,
+    QHeaderView,
+    QLabel,
+    QLineEdit,
+    QPushButton,
+    QScrollArea,
+    QSpinBox,
+    QSplitter,
+    QTableView,
+    QTabWidget,
+    QTreeWidget,
+    QTreeWidgetItem,
+    QVBoxLayout,
+    QWidget,
+)
+
+from core.codebook import Codebook, Variable
+from core.errors import PlaincountError
+from core.kinds import Kind
+from core.project import Changes
+from core.tables.captions import group_title, short_title
+from core.tables.result import Cell, TableResult
+from core.tables.spec import TableSpec
+from desktopapp.icons import kind_icon
+from desktopapp.project_tree import NodeType, TreeNode
+from desktopapp.views import ViewContext, muted_label, section_label
+
+NAME_ROLE = Qt.ItemDataRole.UserRole
+NO_BREAKDOWN = "No break-down"
+# Where the methods guide lives in a source checkout (the window links into it).
+METHODS_GUIDE = Path(__file__).resolve().parents[2] / "docs" / "methods.md"
+# The section of the methods guide that explains each table type (anchors are stable).
+METHODS_ANCHORS = {
+    "frequency": "frequency-tables",
+    "descriptives": "descriptive-statistics",
+    "crosstab": "cross-tabulations",
+    "likert": "rating-scales",
+    "battery": "rating-scales",
+    "ranking": "rankings",
+    "multiselect": "choose-all-that-apply",
+}
+UNSTABLE_TINT = QColor("#FFF1CC")  # a pale amber behind percentages of tiny groups
+HEADER_WRAP = 16
+# The chart in the window is drawn at a high resolution for its size, so that its type (sized
+# for slides) stays readable in a pane a third of the screen wide.
+CHART_DPI = 110  # characters per header line: long answer labels wrap instead of widening
+
+PERCENT_LABELS = {
+    "row": "Within each group (row %)",
+    "column": "Within each answer (column %)",
+    "total": "Of everyone in the table (total %)",
+}
+TREATMENT_LABELS = {
+    "available": "Count everyone who answered",
+    "complete": "Only people who answered every question here",
+    "impute": "Fill in missing answers (single imputation)",
+    "show-missing": "Show missing answers as rows",
+}
+SORT_LABELS = {"level": "In answer order", "frequency": "Most frequent first"}
+SD_LABELS = {
+    "population": "Everyone described (divide by n)",
+    "sample": "A sample of a larger group (divide by n − 1)",
+}
+BORDA_LABELS = {
+    "zero": "Unranked options score 0",
+    "average": "Unranked options share the points left",
+    "modified": "Partial rankings give fewer points",
+}
+MEAN_CAUTION = (
+    "A mean of answer codes treats the answers as equally spaced, which they are not; the "
+    "percentages and the median answer describe a rating scale better."
+)
+TESTS_CAUTION = (
+    "A test only makes sense when the respondents are a sample of a larger group; for "
+    "everyone in the program the differences shown are the actual differences."
+)
+SUPPRESSION_OFF_CAUTION = (
+    "Small counts are shown: they can identify people. Turn hiding back on before sharing."
+)
+
+
+def register(registry: Any) -> None:
+    registry.add(NodeType.TABLES, TabulationView)
+
+
+# ---------------------------------------------------------------------- what can be tabulated
+TABULATED_KINDS = (
+    Kind.NUMERIC,
+    Kind.CATEGORICAL,
+    Kind.LIKERT,
+    Kind.ORDINAL,
+    Kind.RANKING,
+    Kind.MULTISELECT,
+)
+
+
+@dataclass(frozen=True)
+class Entry:
+    """One row of the question list: a single question or a question group.
+
+    ``name`` is what a table spec asks for (a variable name or a group name); ``items``
+    are a group's members, shown beneath it; ``family`` is the table family
+    (``core.tables.build.table_kind``): numeric, categorical, likert, battery, ranking,
+    multiselect.
+    """
+
+    name: str
+    label: str
+    question: str
+    kind: Kind
+    family: str
+    items: tuple[Variable, ...] = ()
+
+    @property
+    def is_group(self) -> bool:
+        return bool(self.items)
+
+
+def tabulation_entries(codebook: Codebook) -> list[Entry]:
+    """What the question list shows, in questionnaire order (a group where its first item is).
+
+    Identifiers, dates and open comments are left out: they have no table.
+    """
+    from core.tables.build import table_kind
+
+    out: list[Entry] = []
+    seen_groups: set[str] = set()
+    groups = codebook.groups()
+    for var in codebook:
+        if var.kind not in TABULATED_KINDS:
+            continue
+        if var.group and var.group in groups:
+            if var.group in seen_groups:
+                continue
+            seen_groups.add(var.group)
+            members = tuple(m for m in groups[var.group] if m.kind in TABULATED_KINDS)
+            try:
+                family, _ = table_kind(codebook, var.group)
+            except PlaincountError:
+                family = ""  # a group of mixed kinds: its items are tabulated one by one
+            title = group_title(var.group, [m.question for m in members])
+            if family:
+                out.append(Entry(var.group, title, title, var.kind, family, members))
+                continue
+        try:
+            family, _ = table_kind(codebook, var.name)
+        except PlaincountError:
+            continue
+        if family in ("ranking",) or (family == "multiselect" and not var.delimiter):
+            continue  # one option of a group question: tabulated through its group
+        out.append(Entry(var.name, var.name, var.question, var.kind, family))
+    return out
+
+
+def breakdown_candidates(codebook: Codebook, exclude: set[str]) -> list[Variable]:
+    """Questions a table can be broken down by: those with a short list of answers."""
+    return [v for v in codebook if v.kind.has_levels and v.name not in exclude]
+
+
+def methods_url(table_type: str) -> QUrl:
+    """The methods guide, opened at the section explaining ``table_type``."""
+    url = QUrl.fromLocalFile(str(METHODS_GUIDE))
+    anchor = METHODS_ANCHORS.get(table_type)
+    if anchor:
+        url.setFragment(anchor)
+    return url
+
+
+# ---------------------------------------------------------------------- clipboard
+def table_mime(result: TableResult) -> QMimeData:
+    """The table as HTML (an editable table when pasted) and as tab-separated text."""
+    from core.export.clipboard import table_html, table_text
+
+    mime = QMimeData()
+    mime.setHtml(table_html(result))
+    mime.setText(table_text(result))
+    return mime
+
+
+def chart_caption(result: TableResult) -> str:
+    """The plain-text caption put on the clipboard with a chart: title, then the base."""
+    lines = [result.title] if result.title else []
+    if result.base:
+        lines.append(result.base)
+    return "\n".join(lines) + "\n"
+
+
+def chart_mime(result: TableResult, png: bytes) -> QMimeData:
+    """A chart as a PNG (plus a bitmap for programs that want one) and its caption."""
+    mime = QMimeData()
+    mime.setData("image/png", png)
+    image = QImage.fromData(png, "PNG")
+    if not image.isNull():
+        mime.setImageData(image)
+    mime.setText(chart_caption(result))
+    return mime
+
+
+# ---------------------------------------------------------------------- the table model
+class ResultTableModel(QAbstractTableModel):
+    """The display table of a :class:`TableResult`: one Qt cell per result cell."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self._result: TableResult | None = None
+        self._min_cell = 5
+
+    def set_result(self, result: TableResult | None) -> None:
+        self.beginResetModel()
+        self._result = result
+        if result is not None:
+            self._min_cell = int(result.data.get("min_cell", 5) or 0)
+        self.endResetModel()
+
+    def result(self) -> TableResult | None:
+        return self._result
+
+    def cell(self, row: int, column: int) -> Cell | None:
+        if self._result is None or row >= len(self._result.rows):
+            return None
+        cells = self._result.rows[row]
+        return cells[column] if column < len(cells) else None
+
+    def rowCount(self, parent: QModelIndex | None = None) -> int:  # noqa: N802 - Qt override
+        if self._result is None or (parent is not None and parent.isValid()):
+            return 0
+        return len(self._result.rows)
+
+    def columnCount(self, parent: QModelIndex | None = None) -> int:  # noqa: N802 - Qt override
+        if self._result is None or (parent is not None and parent.isValid()):
+            return 0
+        return len(self._result.columns)
+
+    def _role(self, row: int) -> str:
+        roles = self._result.row_roles if self._result is not None else []
+        return roles[row] if row < len(roles) else "level"
+
+    def data(self, index: QModelIndex, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if not index.isValid():
+            return None
+        cell = self.cell(index.row(), index.column())
+        if cell is None:
+            return None
+        if role == Qt.ItemDataRole.DisplayRole:
+            return cell.display
+        if role == Qt.ItemDataRole.TextAlignmentRole:
+            if index.column() > 0 and (cell.numeric or cell.suppressed):
+                return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+            return int(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter)
+        if role == Qt.ItemDataRole.FontRole:
+            row_role = self._role(index.row())
+            if row_role in ("total", "missing"):
+                font = QFont()
+                font.setBold(row_role == "total")
+                font.setItalic(row_role == "missing")
+                return font
+            return None
+        if role == Qt.ItemDataRole.ForegroundRole and cell.suppressed:
+            return QBrush(QApplication.palette().color(QPalette.ColorRole.PlaceholderText))
+        if role == Qt.ItemDataRole.BackgroundRole and cell.flag == "unstable":
+            return QBrush(UNSTABLE_TINT)
+        if role == Qt.ItemDataRole.ToolTipRole:
+            return self._tooltip(cell)
+        return None
+
+    def _tooltip(self, cell: Cell) -> str | None:
+        if cell.suppressed:
+            if cell.display.startswith("<"):
+                return f"Hidden: fewer than {self._min_cell} people, who could be recognised."
+            return "Hidden so that a small count cannot be worked out from the totals."
+        if cell.flag == "unstable":
+            return "Based on few people: one or two answers move this percentage a lot."
+        return None
+
+    def headerData(  # noqa: N802 - Qt override
+        self, section: int, orientation: Qt.Orientation, role: int = Qt.ItemDataRole.DisplayRole
+    ) -> Any:
+        if self._result is None or orientation != Qt.Orientation.Horizontal:
+            return None
+        if section >= len(self._result.columns):
+            return None
+        name = str(self._result.columns[section])
+        if role == Qt.ItemDataRole.DisplayRole:
+            return textwrap.fill(name, HEADER_WRAP, break_long_words=False) or name
+        if role == Qt.ItemDataRole.ToolTipRole:
+            return name
+        if role == Qt.ItemDataRole.TextAlignmentRole:
+            align = Qt.AlignmentFlag.AlignLeft if section == 0 else Qt.AlignmentFlag.AlignRight
+            return int(align | Qt.AlignmentFlag.AlignVCenter)
+        return None
+
+    def has_unstable(self) -> bool:
+        return self._result is not None and any(
+            c.flag == "unstable" for row in self._result.rows for c in row
+        )
+
+
+class ResultTableView(QTableView):
+    """The table; Ctrl+C asks the view to copy the whole table, not one cell."""
+
+    copy_requested = Signal()
+
+    def keyPressEvent(self, event: Any) -> None:  # noqa: N802 - Qt override
+        if event.matches(QKeySequence.StandardKey.Copy):
+            self.copy_requested.emit()
+            event.accept()
+            return
+        super().keyPressEvent(event)
+
+
+# ---------------------------------------------------------------------- the view
+class TabulationView(QWidget):
+    """Question list on the left; options, table and chart on the right; a gallery tab."""
+
+    result_changed = Signal(object)  # the TableResult now shown (None when cleared)
+
+    def __init__(self, context: ViewContext, node: TreeNode, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("tabulationView")
+        self._context = context
+        self.node = node
+        self.instrument_id: int = node.instrument_id  # type: ignore[assignment]
+        self.wave_id: int = node.wave_id  # type: ignore[assignment]
+        self._result: TableResult | None = None
+        self._chart_type: str | None = None
+        self._chart_choice: str | None = None  # what the evaluator picked, kept if it fits
+        self._filling = False
+        self._last_focus = "table"
+        self._visible_options: set[str] = set()
+        self._entries: list[Entry] = []
+        self.last_message = ""
+        self.error_text = ""
+        # Replaced in tests so no browser opens.
+        self.open_url: Callable[[QUrl], Any] = QDesktopServices.openUrl
+
+        self._build_picker()
+        self._build_results()
+        from desktopapp.views.gallery_view import GalleryWidget
+
+        self.gallery = GalleryWidget(context, self.instrument_id, self.wave_id)
+        self.tabs = QTabWidget()
+        self.tabs.setObjectName("tabulationTabs")
+        self.tabs.setDocumentMode(True)
+        self.tabs.addTab(self._results, "Table and chart")
+        self.tabs.addTab(self.gallery, "Gallery")
+
+        self.splitter = QSplitter(Qt.Orientation.Horizontal)
+        self.splitter.addWidget(self._picker)
+        self.splitter.addWidget(self.tabs)
+        self.splitter.setStretchFactor(0, 0)
+        self.splitter.setStretchFactor(1, 1)
+        self.splitter.setSizes([280, 1000])
+        self.splitter.setChildrenCollapsible(False)
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(0, 0, 0, 0)
+        layout.addWidget(self.splitter)
+
+        self.copy_action = QAction("Copy", self)
+        self.copy_action.setObjectName("copyResultAction")
+        self.copy_action.setShortcut(QKeySequence(QKeySequence.StandardKey.Copy))
+        self.copy_action.setShortcutContext(Qt.ShortcutContext.WidgetWithChildrenShortcut)
+        self._results.addAction(self.copy_action)
+
+        self._connect_signals()
+        self._fill_list()
+        self._fill_breakdowns()
+        self._update_option_visibility()
+        first = self._first_selectable()
+        if first is not None:
+            self.variable_tree.setCurrentItem(first)
+        else:
+            self._show_empty("This wave has no questions that can be tabulated.")
+
+    # ------------------------------------------------------------------ building
+    def _build_picker(self) -> None:
+        self.search_edit = QLineEdit()
+        self.search_edit.setObjectName("tabulationSearch")
+        self.search_edit.setPlaceholderText("Find a question by name or wording")
+        self.search_edit.setClearButtonEnabled(True)
+        self.variable_tree = QTreeWidget()
+        self.variable_tree.setObjectName("tabulationVariables")
+        self.variable_tree.setHeaderHidden(True)
+        self.variable_tree.setColumnCount(1)
+        self.variable_tree.setUniformRowHeights(True)
+        self.variable_tree.setTextElideMode(Qt.TextElideMode.ElideRight)
+
+        self.by_combo = QComboBox()
+        self.by_combo.setObjectName("breakdownCombo")
+        self.by2_combo = QComboBox()
+        self.by2_combo.setObjectName("breakdown2Combo")
+        for combo in (self.by_combo, self.by2_combo):
+            combo.setSizeAdjustPolicy(
+                QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon
+            )
+            combo.setMinimumContentsLength(12)
+
+        self._picker = QWidget()
+        self._picker.setMinimumWidth(250)
+        lv = QVBoxLayout(self._picker)
+        lv.setContentsMargins(12, 12, 6, 12)
+        lv.addWidget(section_label("Question"))
+        lv.addWidget(self.search_edit)
+        lv.addWidget(self.variable_tree, 1)
+        lv.addSpacing(6)
+        lv.addWidget(section_label("Break down by"))
+        lv.addWidget(self.by_combo)
+        lv.addWidget(QLabel("and then by"))
+        lv.addWidget(self.by2_combo)
+
+    def _build_results(self) -> None:
+        # ---- options: every control is always in the same place; those that do not
+        # apply to the chosen table are hidden.
+        self.percent_combo = self._combo("percentCombo", PERCENT_LABELS)
+        self.treatment_combo = self._combo("treatmentCombo", TREATMENT_LABELS)
+        self.chart_combo = QComboBox()
+        self.chart_combo.setObjectName("chartCombo")
+        self.sort_combo = self._combo("sortCombo", SORT_LABELS)
+        self.sd_combo = self._combo("sdCombo", SD_LABELS)
+        self.borda_combo = self._combo("bordaCombo", BORDA_LABELS)
+        self.min_cell_spin = QSpinBox()
+        self.min_cell_spin.setObjectName("minCellSpin")
+        self.min_cell_spin.setRange(0, 100)
+        self.min_cell_spin.setSpecialValueText("Off")
+        self.min_cell_spin.setToolTip(
+            "Counts from 1 up to this number minus one are hidden so that small groups of "
+            "people cannot be recognised. 0 turns hiding off."
+        )
+        self.min_cell_spin.setValue(self._project_min_cell())
+        self.mean_check = QCheckBox("Show a mean of answer codes")
+        self.mean_check.setObjectName("meanCheck")
+        self.mean_check.setToolTip(MEAN_CAUTION)
+        self.tests_check = QCheckBox("Test the differences (sampled data)")
+        self.tests_check.setObjectName("testsCheck")
+        self.tests_check.setToolTip(TESTS_CAUTION)
+        self.option_caution = QLabel("")
+        self.option_caution.setObjectName("optionCaution")
+        self.option_caution.setWordWrap(True)
+        self.option_caution.setStyleSheet("QLabel { color: #8a4b00; }")
+        self.option_caution.hide()
+
+        grid = QGridLayout()
+        grid.setContentsMargins(0, 0, 0, 0)
+        grid.setHorizontalSpacing(8)
+        grid.setVerticalSpacing(4)
+        self._option_rows: dict[str, tuple[QLabel, QWidget]] = {}
+        placed = [
+            ("percent", "Percentages", self.percent_combo, 0, 0),
+            ("treatment", "Missing answers", self.treatment_combo, 0, 2),
+            ("chart", "Chart", self.chart_combo, 0, 4),
+            ("min_cell", "Hide counts below", self.min_cell_spin, 1, 0),
+            ("sort", "Order", self.sort_combo, 1, 2),
+            ("sd", "Standard deviation", self.sd_combo, 1, 2),
+            ("borda", "Partial rankings", self.borda_combo, 1, 2),
+        ]
+        for key, text, widget, row, col in placed:
+            label = QLabel(text)
+            label.setBuddy(widget)
+            grid.addWidget(label, row, col)
+            grid.addWidget(widget, row, col + 1)
+            self._option_rows[key] = (label, widget)
+        checks = QHBoxLayout()
+        checks.addWidget(self.mean_check)
+        checks.addWidget(self.tests_check)
+        checks.addStretch(1)
+        grid.addLayout(checks, 1, 4, 1, 2)
+        for col in (1, 3, 5):
+            grid.setColumnStretch(col, 1)
+
+        # ---- caption, table, notes
+        self.title_label = QLabel("")
+        self.title_label.setObjectName("tableTitle")
+        font = QFont(self.title_label.font())
+        font.setBold(True)
+        font.setPointSizeF(font.pointSizeF() * 1.25)
+        self.title_label.setFont(font)
+        self.title_label.setWordWrap(True)
+        self.title_label.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        self.status_label = muted_label("")
+        self.status_label.setObjectName("tableStatus")
+
+        self.model = ResultTableModel(self)
+        self.table = ResultTableView()
+        self.table.setObjectName("resultTable")
+        self.table.setModel(self.model)
+        self.table.setSelectionMode(QAbstractItemView.SelectionMode.NoSelection)
+        self.table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.table.setWordWrap(True)
+        self.table.setFocusPolicy(Qt.FocusPolicy.StrongFocus)
+        self.table.verticalHeader().setVisible(False)
+        self.table.horizontalHeader().setDefaultAlignment(
+            Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter
+        )
+        self.table.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
+        self.table.horizontalHeader().setHighlightSections(False)
+        self.table.setAlternatingRowColors(False)
+        self.table.setShowGrid(False)
+        self.table.setStyleSheet(
+            "QTableView#resultTable { gridline-color: #d0d0d0; }"
+            "QTableView#resultTable::item { padding: 2px 6px; border-bottom: 1px solid #e4e4e4; }"
+        )
+
+        self.base_label = QLabel("")
+        self.base_label.setObjectName("tableBase")
+        self.base_label.setWordWrap(True)
+        self.unstable_legend = muted_label(
+            "Shaded: a percentage of fewer than 30 people; one or two answers move it a lot."
+        )
+        self.unstable_legend.setObjectName("unstableLegend")
+        self.unstable_legend.hide()
+        self.notes_label = QLabel("")
+        self.notes_label.setObjectName("tableNotes")
+        self.notes_label.setWordWrap(True)
+        self.notes_label.setTextFormat(Qt.TextFormat.PlainText)
+        self.notes_label.setAlignment(Qt.AlignmentFlag.AlignTop | Qt.AlignmentFlag.AlignLeft)
+        self.notes_label.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        self.notes_label.setForegroundRole(QPalette.ColorRole.PlaceholderText)
+        notes_scroll = QScrollArea()
+        notes_scroll.setObjectName("notesScroll")
+        notes_scroll.setWidgetResizable(True)
+        notes_scroll.setFrameShape(QFrame.Shape.NoFrame)
+        notes_scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        notes_scroll.setWidget(self.notes_label)
+        self.methods_link = QLabel('<a href="#methods">How this is computed</a>')
+        self.methods_link.setObjectName("methodsLink")
+        self.methods_link.setTextInteractionFlags(Qt.TextInteractionFlag.LinksAccessibleByMouse)
+
+        table_pane = QWidget()
+        tv = QVBoxLayout(table_pane)
+        tv.setContentsMargins(0, 0, 6, 0)
+        tv.addWidget(self.table, 3)
+        tv.addWidget(self.base_label)
+        tv.addWidget(self.unstable_legend)
+        tv.addWidget(notes_scroll, 2)
+        tv.addWidget(self.methods_link)
+
+        from desktopapp.widgets.figure_canvas import FigureCanvasWidget
+
+        self.chart = FigureCanvasWidget(dpi=CHART_DPI, minimum=(360, 280))
+        self.chart.setObjectName("resultChart")
+        # Clicking the chart gives it the focus, so Ctrl+C then copies the chart.
+        self.chart.canvas.setFocusPolicy(Qt.FocusPolicy.StrongFocus)
+        self.chart.canvas.setToolTip("Click the chart, then press Ctrl+C to copy it as a picture.")
+
+        self.result_splitter = QSplitter(Qt.Orientation.Horizontal)
+        self.result_splitter.setObjectName("resultSplitter")
+        self.result_splitter.addWidget(table_pane)
+        self.result_splitter.addWidget(self.chart)
+        self.result_splitter.setChildrenCollapsible(False)
+        self.result_splitter.setSizes([560, 440])
+
+        # ---- keep and copy
+        self.finding_edit = QLineEdit()
+        self.finding_edit.setObjectName("findingEdit")
+        self.finding_edit.setPlaceholderText(
+            "The finding in one sentence, e.g. “Most participants found the course relevant.”"
+        )
+        self.keep_button = QPushButton("Keep for report")
+        self.keep_button.setObjectName("keepButton")
+        self.keep_button.setToolTip(
+            "Add this table and its chart to the report outline, with the finding sentence. "
+            "The numbers are recomputed when the data change."
+        )
+        self.copy_table_button = QPushButton("Copy table")
+        self.copy_table_button.setObjectName("copyTableButton")
+        self.copy_table_button.setToolTip(
+            "Put the table on the clipboard: pastes as an editable table, with caption and notes."
+        )
+        self.copy_chart_button = QPushButton("Copy chart")
+        self.copy_chart_button.setObjectName("copyChartButton")
+        self.copy_chart_button.setToolTip(
+            "Put the chart on the clipboard as a 1920 × 1080 picture, with the table's base "
+            "and notes underneath."
+        )
+        bottom = QHBoxLayout()
+        bottom.addWidget(QLabel("Finding"))
+        bottom.addWidget(self.finding_edit, 1)
+        bottom.addWidget(self.keep_button)
+        bottom.addSpacing(12)
+        bottom.addWidget(self.copy_table_button)
+        bottom.addWidget(self.copy_chart_button)
+
+        self._results = QWidget()
+        self._results.setObjectName("tabulationResults")
+        rv = QVBoxLayout(self._results)
+        rv.setContentsMargins(12, 10, 12, 10)
+        rv.setSpacing(6)
+        rv.addLayout(grid)
+        rv.addWidget(self.option_caution)
+        rv.addWidget(self.title_label)
+        rv.addWidget(self.status_label)
+        rv.addWidget(self.result_splitter, 1)
+        rv.addLayout(bottom)
+
+    def _combo(self, name: str, labels: dict[str, str]) -> QComboBox:
+        combo = QComboBox()
+        combo.setObjectName(name)
+        for value, text in labels.items():
+            combo.addItem(text, value)
+        combo.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
+        combo.setMinimumContentsLength(10)
+        return combo
+
+    def _connect_signals(self) -> None:
+        self.search_edit.textChanged.connect(self._on_search_edit_changed)
+        self.variable_tree.currentItemChanged.connect(self._on_variable_tree_current_changed)
+        self.by_combo.currentIndexChanged.connect(self._on_breakdown_changed)
+        self.by2_combo.currentIndexChanged.connect(self._on_breakdown_changed)
+        for combo in (
+            self.percent_combo,
+            self.treatment_combo,
+            self.sort_combo,
+            self.sd_combo,
+            self.borda_combo,
+        ):
+            combo.currentIndexChanged.connect(self._on_option_changed)
+        self.min_cell_spin.valueChanged.connect(self._on_option_changed)
+        self.mean_check.toggled.connect(self._on_option_changed)
+        self.tests_check.toggled.connect(self._on_option_changed)
+        self.chart_combo.currentIndexChanged.connect(self._on_chart_combo_changed)
+        self.methods_link.linkActivated.connect(self._on_methods_link_activated)
+        self.keep_button.clicked.connect(self._on_keep_button_clicked)
+        self.finding_edit.returnPressed.connect(self._on_keep_button_clicked)
+        self.copy_table_button.clicked.connect(self.copy_table)
+        self.copy_chart_button.clicked.connect(self.copy_chart)
+        self.copy_action.triggered.connect(self.copy_current)
+        self.table.copy_requested.connect(self.copy_table)
+        self.gallery.open_requested.connect(self._on_gallery_open_requested)
+        app = QApplication.instance()
+        if app is not None:
+            app.focusChanged.connect(self._on_app_focus_changed)
+
+    # ------------------------------------------------------------------ data access
+    @property
+    def project(self) -> Any:
+        return self._context.project
+
+    def codebook(self) -> Codebook:
+        return self.project.codebook(self.instrument_id)
+
+    def _project_min_cell(self) -> int:
+        try:
+            return int(self.project.settings().get("min_cell", 5))
+        except (TypeError, ValueError):
+            return 5
+
+    def result(self) -> TableResult | None:
+        """The table shown now (None while nothing is shown)."""
+        return self._result
+
+    def chart_type(self) -> str | None:
+        return self._chart_type
+
+    def current_variable(self) -> str | None:
+        item = self.variable_tree.currentItem()
+        return item.data(0, NAME_ROLE) if item is not None else None
+
+    def current_entry(self) -> Entry | None:
+        name = self.current_variable()
+        return next((e for e in self._entries if e.name == name), None)
+
+    def breakdown(self) -> tuple[str, ...]:
+        names = [self.by_combo.currentData(), self.by2_combo.currentData()]
+        out: list[str] = []
+        for name in names:
+            if not name or name in out:
+                break
+            out.append(name)
+        return tuple(out)
+
+    def current_spec(self) -> TableSpec | None:
+        """The table asked for by the controls now (chart not included)."""
+        name = self.current_variable()
+        if not name:
+            return None
+        wave = self.project.wave(self.wave_id)
+        instrument = self.project.instrument(self.instrument_id).name
+        min_cell = self.min_cell_spin.value()
+        return TableSpec(
+            variable=name,
+            wave=wave.label,
+            instrument=instrument,
+            by=self.breakdown(),
+            percent=self.percent_combo.currentData(),
+            treatment=self.treatment_combo.currentData(),
+            min_cell=None if min_cell == self._project_min_cell() else min_cell,
+            sort=self.sort_combo.currentData(),
+            sd=self.sd_combo.currentData(),
+            show_mean=self.mean_check.isChecked() and "show_mean" in self._visible_options,
+            borda=self.borda_combo.currentData(),
+            tests=self.tests_check.isChecked() and "tests" in self._visible_options,
+        )
+
+    # ------------------------------------------------------------------ public controls
+    def select_variable(self, name: str) -> bool:
+        """Select a question or question group by name (False if it is not listed)."""
+        for item in self._selectable_items():
+            if item.data(0, NAME_ROLE) == name:
+                self.variable_tree.setCurrentItem(item)
+                return True
+        return False
+
+    def set_breakdown(self, *names: str) -> None:
+        """Break the table down by up to two questions (no names: no break-down)."""
+        self._filling = True
+        try:
+            for combo, name in zip((self.by_combo, self.by2_combo), (*names, None, None)):
+                index = combo.findData(name) if name else 0
+                combo.setCurrentIndex(max(index, 0))
+        finally:
+            self._filling = False
+        self._update_by2_enabled()
+        self._chart_choice = None
+        self._update_option_visibility()
+        self._request_table()
+
+    def set_option(self, name: str, value: Any) -> None:
+        """Set one option by its spec name (tests and the gallery use this)."""
+        combos = {
+            "percent": self.percent_combo,
+            "treatment": self.treatment_combo,
+            "sort": self.sort_combo,
+            "sd": self.sd_combo,
+            "borda": self.borda_combo,
+        }
+        if name in combos:
+            combo = combos[name]
+            index = combo.findData(value)
+            if index < 0:
+                raise ValueError(f"{value!r} is not an option of {name}")
+            combo.setCurrentIndex(index)
+        elif name == "min_cell":
+            self.min_cell_spin.setValue(int(value))
+        elif name == "show_mean":
+            self.mean_check.setChecked(bool(value))
+        elif name == "tests":
+            self.tests_check.setChecked(bool(value))
+        elif name == "chart":
+            index = self.chart_combo.findData(value)
+            if index < 0:
+                raise ValueError(f"{value!r} is not a chart type offered here")
+            self.chart_combo.setCurrentIndex(index)
+        else:
+            raise ValueError(f"unknown option {name!r}")
+
+    # ------------------------------------------------------------------ question list
+    def _fill_list(self) -> None:
+        current = self.current_variable()
+        self._entries = tabulation_entries(self.codebook())
+        self.variable_tree.blockSignals(True)
+        self.variable_tree.clear()
+        for entry in self._entries:
+            item = QTreeWidgetItem([self._entry_text(entry)])
+            item.setData(0, NAME_ROLE, entry.name)
+            item.setIcon(0, kind_icon(entry.kind))
+            item.setToolTip(0, self._entry_tooltip(entry))
+            self.variable_tree.addTopLevelItem(item)
+            for member in entry.items:
+                child = QTreeWidgetItem([f"{member.name}  {short_title(member.question, 60)}"])
+                child.setToolTip(0, member.question or member.name)
+                child.setIcon(0, kind_icon(member.kind))
+                if entry.family == "battery":
+                    child.setData(0, NAME_ROLE, member.name)  # each item has its own table
+                else:
+                    # An option of a ranking or choose-all question: only the whole
+                    # question has a table, so the row is listed but not selectable.
+                    child.setData(0, NAME_ROLE, None)
+                    child.setFlags(Qt.ItemFlag.ItemIsEnabled)
+                item.addChild(child)
+        self.variable_tree.blockSignals(False)
+        if current:
+            self.select_variable(current)
+        self._apply_search()
+
+    @staticmethod
+    def _entry_text(entry: Entry) -> str:
+        if entry.is_group:
+            what = {
+                "battery": "rating items",
+                "ranking": "options to rank",
+                "multiselect": "options",
+            }.get(entry.family, "items")
+            return f"{entry.label} ({len(entry.items)} {what})"
+        return f"{entry.name}  {short_title(entry.question, 60)}"
+
+    @staticmethod
+    def _entry_tooltip(entry: Entry) -> str:
+        if entry.is_group:
+            kind = {
+                "battery": "A battery of rating items: one row per item",
+                "ranking": "A ranking question: Borda points and rank positions",
+                "multiselect": "A choose-all-that-apply question",
+            }.get(entry.family, "A question group")
+            return f"{kind}\nGroup: {entry.name}"
+        return f"{entry.question or entry.name}\n{entry.kind.label}"
+
+    def _selectable_items(self) -> list[QTreeWidgetItem]:
+        out = []
+        for i in range(self.variable_tree.topLevelItemCount()):
+            top = self.variable_tree.topLevelItem(i)
+            out.append(top)
+            for j in range(top.childCount()):
+                child = top.child(j)
+                if child.data(0, NAME_ROLE):
+                    out.append(child)
+        return out
+
+    def _first_selectable(self) -> QTreeWidgetItem | None:
+        items = self._selectable_items()
+        return items[0] if items else None
+
+    def _apply_search(self) -> None:
+        words = self.search_edit.text().lower().split()
+        entries = {e.name: e for e in self._entries}
+        for i in range(self.variable_tree.topLevelItemCount()):
+            top = self.variable_tree.topLevelItem(i)
+            entry = entries.get(top.data(0, NAME_ROLE))
+            own = f"{top.text(0)} {top.toolTip(0)}".lower()
+            any_child = False
+            for j in range(top.childCount()):
+                child = top.child(j)
+                text = f"{child.text(0)} {child.toolTip(0)}".lower()
+                hit = all(w in text or w in own for w in words)
+                child.setHidden(not hit)
+                any_child = any_child or hit
+            top.setHidden(bool(words) and not (all(w in own for w in words) or any_child))
+            if entry is not None and entry.is_group:
+                top.setExpanded(bool(words) and any_child)
+
+    def _on_search_edit_changed(self, _text: str) -> None:
+        self._apply_search()
+
+    def _on_variable_tree_current_changed(
+        self, current: QTreeWidgetItem | None, _previous: object
+    ) -> None:
+        if current is not None and not current.data(0, NAME_ROLE):
+            return  # an option row: nothing to show by itself
+        self._chart_choice = None
+        self._fill_breakdowns()
+        self._update_option_visibility()
+        self._request_table()
+
+    # ------------------------------------------------------------------ break-downs
+    def _fill_breakdowns(self) -> None:
+        entry = self.current_entry()
+        exclude = {entry.name, *(m.name for m in entry.items)} if entry else set()
+        name = self.current_variable()
+        if name:
+            exclude.add(name)
+        keep = self.breakdown()
+        candidates = breakdown_candidates(self.codebook(), exclude)
+        self._filling = True
+        try:
+            for combo, previous in zip((self.by_combo, self.by2_combo), (*keep, None, None)):
+                combo.blockSignals(True)
+                combo.clear()
+                combo.addItem(NO_BREAKDOWN, None)
+                for var in candidates:
+                    combo.addItem(
+                        kind_icon(var.kind),
+                        f"{var.name}  {short_title(var.question, 48)}",
+                        var.name,
+                    )
+                    combo.setItemData(
+                        combo.count() - 1, var.question or var.name, Qt.ItemDataRole.ToolTipRole
+                    )
+                index = combo.findData(previous) if previous else 0
+                combo.setCurrentIndex(max(index, 0))
+                combo.blockSignals(False)
+        finally:
+            self._filling = False
+        self._update_by2_enabled()
+
+    def _update_by2_enabled(self) -> None:
+        has_first = bool(self.by_combo.currentData())
+        if not has_first and self.by2_combo.currentIndex() != 0:
+            self.by2_combo.blockSignals(True)
+            self.by2_combo.setCurrentIndex(0)
+            self.by2_combo.blockSignals(False)
+        self.by2_combo.setEnabled(has_first)
+
+    def _on_breakdown_changed(self, _index: int) -> None:
+        if self._filling:
+            return
+        self._update_by2_enabled()
+        self._chart_choice = None
+        self._update_option_visibility()
+        self._request_table()
+
+    # ------------------------------------------------------------------ options
+    def _update_option_visibility(self) -> None:
+        """Show only the options that change the chosen table."""
+        entry = self.current_entry()
+        name = self.current_variable()
+        family = entry.family if entry is not None else ""
+        if entry is None and name:
+            var = self.codebook().get(name)
+            if var is not None:
+                family = (
+                    "likert"
+                    if var.kind is Kind.LIKERT
+                    else ("numeric" if var.kind is Kind.NUMERIC else "categorical")
+                )
+        var = self.codebook().get(name) if name else None
+        has_by = bool(self.breakdown())
+        crosstab = has_by and family in ("categorical", "likert")
+        visible = {"treatment", "chart", "min_cell"}
+        if crosstab:
+            visible |= {"percent", "tests"}
+        if family == "battery" or (
+            family == "categorical" and not has_by and var is not None and not var.kind.ordered
+        ):
+            visible.add("sort")
+        if family == "numeric":
+            visible.add("sd")
+        if family == "ranking":
+            visible.add("borda")
+        if family == "battery" or (family == "likert" and not has_by):
+            visible.add("show_mean")
+        self._visible_options = visible
+        for key, (label, widget) in self._option_rows.items():
+            shown = key in visible
+            label.setVisible(shown)
+            widget.setVisible(shown)
+        self.mean_check.setVisible("show_mean" in visible)
+        self.tests_check.setVisible("tests" in visible)
+        sort_text = "Highest % agreeing first" if family == "battery" else "Most frequent first"
+        self.sort_combo.setItemText(self.sort_combo.findData("frequency"), sort_text)
+        self._update_caution()
+
+    def _update_caution(self) -> None:
+        texts = []
+        if self.min_cell_spin.value() == 0:
+            texts.append(SUPPRESSION_OFF_CAUTION)
+        if "show_mean" in self._visible_options and self.mean_check.isChecked():
+            texts.append(MEAN_CAUTION)
+        if "tests" in self._visible_options and self.tests_check.isChecked():
+            texts.append(TESTS_CAUTION)
+        self.option_caution.setText(" ".join(texts))
+        self.option_caution.setVisible(bool(texts))
+
+    def _on_option_changed(self, *_args: Any) -> None:
+        if self._filling:
+            return
+        self._update_caution()
+        self._request_table()
+
+    def _on_chart_combo_changed(self, _index: int) -> None:
+        if self._filling:
+            return
+        self._chart_choice = self.chart_combo.currentData()
+        self._update_chart()
+
+    # ------------------------------------------------------------------ computing
+    def _request_table(self) -> None:
+        if self._filling:
+            return
+        spec = self.current_spec()
+        if spec is None:
+            self._show_empty("Choose a question on the left.")
+            return
+        project = self.project
+        self.status_label.setText("Working out the table…")
+
+        def work(_progress: Any) -> TableResult:
+            from core.tables.build import compute_table
+
+            return compute_table(project, spec)
+
+        self._context.runner.run(
+            work,
+            on_success=self._show_result,
+            on_failure=self._on_table_failed,
+            key=f"tabulation:{id(self)}",
+            show_progress=False,
+            label="Working out the table…",
+        )
+
+    def _show_result(self, result: TableResult) -> None:
+        from core.charts import chart_label, chart_types
+
+        self._result = result
+        self.error_text = ""
+        self.status_label.setText("")
+        self.title_label.setText(result.title)
+        self.model.set_result(result)
+        self._fit_columns()
+        self.base_label.setText(result.base)
+        self.unstable_legend.setVisible(self.model.has_unstable())
+        self.notes_label.setText("\n".join(f"• {note}" for note in result.notes))
+        anchor = METHODS_ANCHORS.get(result.table_type)
+        self.methods_link.setVisible(anchor is not None)
+        types = chart_types(result)
+        self._filling = True
+        try:
+            self.chart_combo.clear()
+            for t in types:
+                self.chart_combo.addItem(chart_label(t), t)
+            if self._chart_choice in types:
+                chosen = self._chart_choice
+            else:
+                chosen = types[0] if types else None
+            self.chart_combo.setCurrentIndex(max(self.chart_combo.findData(chosen), 0))
+            self.chart_combo.setEnabled(bool(types))
+        finally:
+            self._filling = False
+        self._chart_type = chosen
+        for widget in (self.keep_button, self.copy_table_button, self.finding_edit):
+            widget.setEnabled(True)
+        self.copy_chart_button.setEnabled(chosen is not None)
+        self._update_chart()
+        self.result_changed.emit(result)
+
+    def _update_chart(self) -> None:
+        result = self._result
+        if result is None:
+            self.chart.set_drawer(None, "")
+            return
+        chart_type = self.chart_combo.currentData()
+        self._chart_type = chart_type
+        if chart_type is None:
+            self.chart.set_drawer(None, "This table has no chart.")
+            self.copy_chart_button.setEnabled(False)
+            return
+        from core.charts import draw
+
+        # The notes are printed beside the chart, under the table; drawn again in small type
+        # under the chart they would only crowd it. A copied chart carries them.
+        shown = result_without_notes(result)
+        self.chart.set_drawer(lambda figure: draw(shown, figure, chart_type))
+
+    def _fit_columns(self) -> None:
+        self.table.resizeColumnsToContents()
+        header = self.table.horizontalHeader()
+        # A long row label (a battery item, a long answer) wraps rather than pushing the
+        # numbers out of sight.
+        first = min(header.sectionSize(0), 300) if self.model.columnCount() else 0
+        if first:
+            header.resizeSection(0, first)
+        for col in range(1, self.model.columnCount()):
+            header.resizeSection(col, min(max(header.sectionSize(col), 56), 160))
+        self.table.resizeRowsToContents()
+
+    def _on_table_failed(self, exc: BaseException) -> None:
+        from desktopapp.errors import message_for
+
+        text, details = message_for(exc)
+        if details:
+            import sys
+
+            print(details, file=sys.stderr)
+        self._show_empty(text)
+
+    def _show_empty(self, text: str) -> None:
+        self._result = None
+        self.error_text = text
+        self.title_label.setText("")
+        self.status_label.setText(text)
+        self.model.set_result(None)
+        self.base_label.setText("")
+        self.notes_label.setText("")
+        self.unstable_legend.hide()
+        self.methods_link.hide()
+        self._filling = True
+        self.chart_combo.clear()
+        self._filling = False
+        self.chart.set_drawer(None, "")
+        for widget in (
+            self.keep_button,
+            self.copy_table_button,
+            self.copy_chart_button,
+            self.finding_edit,
+        ):
+            widget.setEnabled(False)
+        self.result_changed.emit(None)
+
+    # ------------------------------------------------------------------ methods guide
+    def _on_methods_link_activated(self, _link: str) -> None:
+        self.open_methods()
+
+    def open_methods(self) -> QUrl | None:
+        """Open the methods guide at the section for the table shown; returns the URL."""
+        if self._result is None:
+            return None
+        if not METHODS_GUIDE.exists():
+            self._message("The methods guide is not included in this copy of Plaincount.")
+            return None
+        url = methods_url(self._result.table_type)
+        self.open_url(url)
+        return url
+
+    # ------------------------------------------------------------------ keep for report
+    def keep_spec(self) -> TableSpec | None:
+        """What "Keep for report" stores: the table's spec with the chart type shown."""
+        result = self._result
+        if result is None:
+            return None
+        return result.spec.with_changes(chart=self._chart_type)
+
+    def _on_keep_button_clicked(self) -> None:
+        spec = self.keep_spec()
+        if spec is None:
+            return
+        project = self.project
+        finding = self.finding_edit.text().strip()
+        title = self._result.title if self._result is not None else None
+
+        def work(_progress: Any) -> int:
+            from core import outline
+
+            return outline.keep(project, spec, title=title, finding=finding)
+
+        self._context.runner.run(
+            work,
+            on_success=lambda item_id: self._on_kept(item_id, title or spec.variable, finding),
+            writes=True,
+            label="Keeping the result for the report…",
+        )
+
+    def _on_kept(self, _item_id: int, title: str, finding: str) -> None:
+        self.finding_edit.clear()
+        hint = "" if finding else " Add its finding sentence in the report outline."
+        self._message(f"Kept “{short_title(title, 60)}” for the report.{hint}")
+
+    def _message(self, text: str) -> None:
+        self.last_message = text
+        if self._context.show_message is not None:
+            self._context.show_message(text)
+
+    # ------------------------------------------------------------------ copy
+    def _on_app_focus_changed(self, _old: QWidget | None, new: QWidget | None) -> None:
+        if new is None:
+            return
+        if new is self.table or self.table.isAncestorOf(new):
+            self._last_focus = "table"
+        elif new is self.chart or self.chart.isAncestorOf(new):
+            self._last_focus = "chart"
+
+    def copy_current(self) -> None:
+        """Copy whichever of the table and the chart last had the focus."""
+        if self._last_focus == "chart" and self._chart_type is not None:
+            self.copy_chart()
+        else:
+            self.copy_table()
+
+    def copy_table(self) -> bool:
+        """Put the table on the clipboard as HTML and tab-separated text."""
+        result = self._result
+        if result is None:
+            return False
+        QApplication.clipboard().setMimeData(table_mime(result))
+        self._message("Copied the table. Paste it into a slide or document as a table.")
+        return True
+
+    def copy_chart(self) -> bool:
+        """Put the chart on the clipboard: a 1920 × 1080 PNG drawn on a worker, and its caption."""
+        result, chart_type = self._result, self._chart_type
+        if result is None or chart_type is None:
+            return False
+
+        def work(_progress: Any) -> bytes:
+            from core.export.clipboard import chart_png
+
+            return chart_png(result, chart_type)
+
+        def done(png: bytes) -> None:
+            QApplication.clipboard().setMimeData(chart_mime(result, png))
+            self._message("Copied the chart as a picture.")
+
+        self._context.runner.run(
+            work, on_success=done, key=f"copy-chart:{id(self)}", label="Drawing the chart…"
+        )
+        return True
+
+    # ------------------------------------------------------------------ gallery
+    def show_gallery(self) -> None:
+        self.tabs.setCurrentWidget(self.gallery)
+
+    def _on_gallery_open_requested(self, name: str, by: tuple[str, ...]) -> None:
+        self.tabs.setCurrentWidget(self._results)
+        self._filling = True
+        try:
+            self.select_variable(name)
+        finally:
+            self._filling = False
+        self._fill_breakdowns()
+        self.set_breakdown(*by)
+
+    # ------------------------------------------------------------------ window hooks
+    def project_changed(self, changes: Changes) -> None:
+        if changes.codebook and (
+            not changes.instrument_ids or self.instrument_id in changes.instrument_ids
+        ):
+            self._filling = True
+            try:
+                self._fill_list()
+                self._fill_breakdowns()
+            finally:
+                self._filling = False
+            self._update_option_visibility()
+        touches_wave = not changes.wave_ids or self.wave_id in changes.wave_ids
+        if (changes.codebook or changes.ledger or changes.rules or changes.settings) and (
+            touches_wave
+        ):
+            if changes.settings:
+                self._filling = True
+                self.min_cell_spin.setValue(self._project_min_cell())
+                self._filling = False
+            self._request_table()
+            self.gallery.project_changed(changes)
+
+    def prepare_screenshot(self) -> None:
+        """Show a finding worth a picture: overall satisfaction by cohort, drawn at once."""
+        if self.select_variable("overall_satisfaction"):
+            self.set_breakdown("cohort")
+        self.chart.render_now()
+
+    def screenshot_states(self) -> list[tuple[str, Callable[[], None]]]:
+        """Other states worth a picture: the gallery of the agreement battery by track."""
+
+        def gallery() -> None:
+            self.gallery.show_source("agree", "track")
+            self.show_gallery()
+
+        return [("tables-gallery", gallery)]
+
+    def shutdown(self) -> None:
+        app = QApplication.instance()
+        if app is not None:
+            with contextlib.suppress(RuntimeError, TypeError):
+                app.focusChanged.disconnect(self._on_app_focus_changed)
+        self.variable_tree.blockSignals(True)
+        self.gallery.shutdown()
+
+
+def result_without_notes(result: TableResult) -> TableResult:
+    """A copy of ``result`` for a thumbnail: the same numbers, base line only."""
+    return replace(result, notes=[])
