@@ -9,6 +9,7 @@ locking mode so a second process gets a clear message instead of a half-shared f
 from __future__ import annotations
 
 import hashlib
+import importlib
 import io
 import json
 import os
@@ -157,6 +158,8 @@ class Changes:
 # Undo handlers by history kind: fn(project, payload, undo) -> Changes. Filled by the
 # modules that own each kind (codebook edits here, ledger decisions in core.ledger).
 UNDO_HANDLERS: dict[str, Callable[[Project, dict[str, Any], bool], Changes]] = {}
+# Where each kind's handler lives, so undo works even before that module was imported.
+HANDLER_MODULES = {"ledger": "core.ledger", "outline": "core.outline", "rules": "core.rules"}
 
 
 def table_to_parquet(frame: pd.DataFrame) -> bytes:
@@ -632,6 +635,8 @@ class Project:
             if not rows:
                 return None
             hid, kind, payload = rows[0]
+            if kind not in UNDO_HANDLERS and kind in HANDLER_MODULES:
+                importlib.import_module(HANDLER_MODULES[kind])  # registers its handler
             handler = UNDO_HANDLERS.get(kind)
             if handler is None:
                 raise ProjectError(f"This project records a step of unknown kind {kind!r}.")
