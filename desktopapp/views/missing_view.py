@@ -291,6 +291,8 @@ class MissingDataView(QWidget):
         self._current_item: str | None = None
         self._scan_requested = False
         self._key = f"missing:{id(self)}"
+        self._closed = False
+        self._jobs: list[Any] = []
 
         self.title = title_label("Missing data")
         self.totals_label = muted_label("Reading the wave…")
@@ -498,8 +500,9 @@ class MissingDataView(QWidget):
         header = self.scan_table.horizontalHeader()
         self.scan_hint = muted_label(
             "Ranked: tests whose expected counts are large enough come first, then the "
-            "strongest association (Cramér's V). Double-click a row to see its breakdown on "
-            "the Items tab."
+            "strongest association (Cramér's V). Point at a row's groups to see their sizes "
+            "(groups under 10 respondents are combined or left out); double-click a row to "
+            "see its breakdown on the Items tab."
         )
         row = QHBoxLayout()
         row.addWidget(self.scan_button)
@@ -641,7 +644,7 @@ class MissingDataView(QWidget):
                 instrument_name=inst.name,
             )
 
-        self._context.runner.run(
+        self._run(
             work,
             on_success=self._on_loaded,
             on_failure=self._on_load_failed,
@@ -759,9 +762,10 @@ class MissingDataView(QWidget):
             return
         working = self.loaded.working
 
-        self._context.runner.run(
+        self._run(
             lambda _p: item_summary(working, value),
             on_success=self._on_threshold_items,
+            on_failure=lambda exc: self.marker_count_label.setText(message_for(exc)[0]),
             key=f"{self._key}:threshold",
             show_progress=False,
         )
@@ -776,7 +780,7 @@ class MissingDataView(QWidget):
         if self.loaded is None:
             return
         working, threshold = self.loaded.working, self.threshold
-        self._context.runner.run(
+        self._run(
             lambda _p: summary_paragraphs(working, threshold),
             on_success=self._show_paragraphs,
             on_failure=lambda exc: self._show_paragraphs([message_for(exc)[0]]),
@@ -874,7 +878,7 @@ class MissingDataView(QWidget):
             )
             return
         working = self.loaded.working
-        self._context.runner.run(
+        self._run(
             lambda _p: missing_by_group(working, item, by),
             on_success=self._show_breakdown,
             on_failure=lambda exc: self._show_breakdown_message(message_for(exc)[0], exc),
@@ -954,7 +958,7 @@ class MissingDataView(QWidget):
             progress.update(0, 1, "Testing every item against every category question…")
             return pattern_scan(working)
 
-        self._context.runner.run(
+        self._run(
             work,
             on_success=self._show_scan,
             on_failure=self._on_scan_failed,
@@ -986,7 +990,8 @@ class MissingDataView(QWidget):
         self.scan_status.setText(
             f"{len(scan):,} item-and-question pairs tested; "
             + (
-                f"{clear} differ clearly after correcting for the number of tests."
+                f"{clear} differ{'s' if clear == 1 else ''} clearly after correcting for the "
+                "number of tests."
                 if clear
                 else "none differs clearly after correcting for the number of tests."
             )
@@ -1065,7 +1070,7 @@ class MissingDataView(QWidget):
             return
         working = self.loaded.working
         self.mcar_run_button.setEnabled(False)
-        self._context.runner.run(
+        self._run(
             lambda _p: little_mcar_for(working, names),
             on_success=self._show_mcar,
             on_failure=self._on_mcar_failed,
@@ -1106,7 +1111,33 @@ class MissingDataView(QWidget):
             self.reload()
 
     def shutdown(self) -> None:
+        self._closed = True
         self.item_table.selectionModel().blockSignals(True)
+        for job in self._jobs:
+            job.cancel()
+        self._jobs.clear()
+
+    def _run(self, fn: Callable[[Any], Any], **kwargs: Any) -> Any:
+        """Run on the background runner; results arriving after the view closed are dropped."""
+
+        def guarded(callback: Callable[..., None] | None) -> Callable[..., None] | None:
+            if callback is None:
+                return None
+
+            def call(*args: Any) -> None:
+                if not self._closed:
+                    callback(*args)
+
+            return call
+
+        for name in ("on_success", "on_failure", "on_cancelled"):
+            if name in kwargs:
+                kwargs[name] = guarded(kwargs[name])
+        job = self._context.runner.run(fn, **kwargs)
+        if job.running:
+            self._jobs.append(job)
+            job.finished.connect(lambda j=job: self._jobs.remove(j) if j in self._jobs else None)
+        return job
 
 
 # ---------------------------------------------------------------------- helpers
@@ -1140,7 +1171,7 @@ def _scan_columns() -> list[Column]:
         Column("by", "Grouped by", "text"),
         Column(
             "pct_missing_by_group",
-            "% missing in each group (hover for group sizes)",
+            "% missing in each group",
             "groups",
             "Hover over a row to see the size of each group",
         ),

@@ -208,7 +208,7 @@ def test_pattern_scan_ranks_income_by_gender_first(qtbot, view):
     assert model.text(0, "pct_missing_by_group").startswith("Man 40.5")
     assert "not proof" in view.scan_caution.text().lower()
     assert "screening aid" in view.scan_caution.text()
-    assert "1 differ clearly" in view.scan_status.text()
+    assert "1 differs clearly" in view.scan_status.text()
     # Double-clicking a row opens its breakdown on the Items tab.
     view.set_grouping("cohort")
     view.select_item("age")
