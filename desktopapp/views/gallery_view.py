@@ -304,6 +304,10 @@ class GalleryWidget(QWidget):
     # ------------------------------------------------------------------ drawing
     def showEvent(self, event: Any) -> None:  # noqa: N802 - Qt override
         super().showEvent(event)
+        self.refresh_if_stale()
+
+    def refresh_if_stale(self) -> None:
+        """Draw the current choice if it has not been drawn yet (the tab was just shown)."""
         if self._stale:
             self.refresh()
 

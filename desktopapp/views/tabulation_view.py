@@ -671,6 +671,7 @@ class TabulationView(QWidget):
         self.copy_action.triggered.connect(self.copy_current)
         self.table.copy_requested.connect(self.copy_table)
         self.gallery.open_requested.connect(self._on_gallery_open_requested)
+        self.tabs.currentChanged.connect(self._on_tabs_current_changed)
         app = QApplication.instance()
         if app is not None:
             app.focusChanged.connect(self._on_app_focus_changed)
@@ -1220,6 +1221,10 @@ class TabulationView(QWidget):
     # ------------------------------------------------------------------ gallery
     def show_gallery(self) -> None:
         self.tabs.setCurrentWidget(self.gallery)
+
+    def _on_tabs_current_changed(self, _index: int) -> None:
+        if self.tabs.currentWidget() is self.gallery:
+            self.gallery.refresh_if_stale()
 
     def _on_gallery_open_requested(self, name: str, by: tuple[str, ...]) -> None:
         self.tabs.setCurrentWidget(self._results)
