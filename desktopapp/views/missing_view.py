@@ -336,14 +336,25 @@ class MissingDataView(QWidget):
         )
         self.marker_count_label = QLabel("")
         self.marker_count_label.setObjectName("markerCount")
+        # The caution in one line, always shown; the full paragraph (with the marked items
+        # and why the base matters) one click away, so the table keeps its room.
+        self.threshold_caution = muted_label(_first_sentence(THRESHOLD_SOURCE))
+        self.threshold_caution.setObjectName("thresholdCaution")
         self.threshold_note = muted_label(THRESHOLD_SOURCE)
         self.threshold_note.setObjectName("thresholdNote")
+        self.threshold_note.setVisible(False)
+        self.threshold_more_button = QPushButton("More about this threshold")
+        self.threshold_more_button.setObjectName("thresholdMoreButton")
+        self.threshold_more_button.setCheckable(True)
+        self.threshold_more_button.setFlat(True)
+        self.threshold_more_button.setStyleSheet("QPushButton { color: #0b5cad; }")
         threshold_row = QHBoxLayout()
         threshold_row.addWidget(QLabel("Mark items with more missing than"))
         threshold_row.addWidget(self.threshold_spin)
         threshold_row.addSpacing(12)
         threshold_row.addWidget(self.marker_count_label)
         threshold_row.addStretch(1)
+        threshold_row.addWidget(self.threshold_more_button)
 
         self.item_model = FrameModel()
         self.item_model.tooltip_for = self._item_tooltip
@@ -402,12 +413,13 @@ class MissingDataView(QWidget):
         breakdown.addWidget(left)
         breakdown.addWidget(right_scroll)
         breakdown.setChildrenCollapsible(False)
-        breakdown.setSizes([520, 560])
+        breakdown.setSizes([600, 440])
 
         top = QWidget()
         tv = QVBoxLayout(top)
         tv.setContentsMargins(0, 8, 0, 4)
         tv.addLayout(threshold_row)
+        tv.addWidget(self.threshold_caution)
         tv.addWidget(self.threshold_note)
         tv.addWidget(self.item_table, 1)
         self.items_splitter = QSplitter(Qt.Orientation.Vertical)
@@ -588,6 +600,7 @@ class MissingDataView(QWidget):
 
     def _connect_signals(self) -> None:
         self.threshold_spin.valueChanged.connect(self._on_threshold_spin_changed)
+        self.threshold_more_button.toggled.connect(self._on_threshold_more_button_toggled)
         self.item_table.selectionModel().currentRowChanged.connect(
             self._on_item_table_current_changed
         )
@@ -795,6 +808,14 @@ class MissingDataView(QWidget):
         # Beside the threshold: the paragraph that names the marked items and the caution.
         note = next((p for p in paragraphs if THRESHOLD_SOURCE in p), None)
         self.threshold_note.setText(note or THRESHOLD_SOURCE)
+        self.threshold_caution.setToolTip(note or THRESHOLD_SOURCE)
+
+    def _on_threshold_more_button_toggled(self, shown: bool) -> None:
+        self.threshold_note.setVisible(shown)
+        self.threshold_caution.setVisible(not shown)
+        self.threshold_more_button.setText(
+            "Less about this threshold" if shown else "More about this threshold"
+        )
 
     def select_item(self, name: str) -> bool:
         """Select an item in the table (and show its breakdown); False if it is not there."""
@@ -899,7 +920,7 @@ class MissingDataView(QWidget):
         table = result.table
         cols = [
             Column("group", result.by, "text"),
-            Column("n", "Respondents", "int", "Respondents in the group the item applied to"),
+            Column("n", "In group", "int", "Respondents in the group the item applied to"),
             Column("n_answered", "Answered", "int"),
             Column("n_missing", "Missing", "int"),
             Column("pct_missing", "% missing", "pct", "Missing as a share of the group"),
@@ -1224,6 +1245,11 @@ def _scrolling(widget: QWidget) -> QScrollArea:
     area.setFrameShape(QFrame.Shape.NoFrame)
     area.setWidget(widget)
     return area
+
+
+def _first_sentence(text: str) -> str:
+    head, sep, _rest = text.partition(". ")
+    return head + "." if sep else text
 
 
 def _p_text(p: float) -> str:

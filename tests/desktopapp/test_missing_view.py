@@ -113,7 +113,7 @@ def test_item_table_shows_item_summary(window, view, demo):
     assert "dont_know" not in keys and "set_missing" not in keys
 
 
-def test_threshold_moves_the_markers(window, view):
+def test_threshold_moves_the_markers(qtbot, window, view):
     ref = _reference_summary(window, view)
     marker = view.item_model.column_of("above_threshold")
     assert view.threshold == 5.0
@@ -127,6 +127,12 @@ def test_threshold_moves_the_markers(window, view):
     assert shown_marks() == expected5 and len(expected5) >= 5
     assert view.item_model.text(_row(view, "age"), "above_threshold") == MARK  # 5.6 %
     assert f"{len(expected5)} of {len(ref)} items marked" in view.marker_count_label.text()
+    # The caution is shown beside the threshold; the full paragraph is one click away.
+    assert view.threshold_caution.isVisible()
+    assert "rule of thumb, not a test" in view.threshold_caution.text()
+    assert not view.threshold_note.isVisible()
+    qtbot.mouseClick(view.threshold_more_button, Qt.MouseButton.LeftButton)
+    assert view.threshold_note.isVisible()
     assert "rule of thumb" in view.threshold_note.text()
     assert "more than 5 % missing" in view.threshold_note.text()
 
