@@ -70,7 +70,12 @@ def capture(out_dir: Path) -> list[Path]:
         view = window.view
         if node.type == NodeType.CODEBOOK and hasattr(view, "select_variable"):
             view.select_variable(CODEBOOK_EXAMPLE)
+        # A view may choose what is worth showing, and offer further states of itself.
+        getattr(view, "prepare_screenshot", lambda: None)()
         save(window, f"view-{node.type}")
+        for name, show_state in getattr(view, "screenshot_states", lambda: [])():
+            show_state()
+            save(window, f"view-{name}")
         for name, dialog in getattr(view, "screenshot_dialogs", lambda: [])():
             dialog.show()
             save(dialog, f"dialog-{name}")
