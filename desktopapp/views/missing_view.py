@@ -385,13 +385,14 @@ class MissingDataView(QWidget):
         self.breakdown_table = _table_view("breakdownTable")
         self.breakdown_table.setModel(self.breakdown_model)
         self.breakdown_table.verticalHeader().setVisible(False)
-        self.breakdown_test = QLabel("")
-        self.breakdown_test.setObjectName("breakdownTest")
-        self.breakdown_test.setWordWrap(True)
-        self.breakdown_test.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
-        self.breakdown_notes = muted_label("")
-        self.breakdown_notes.setObjectName("breakdownNotes")
-        self.breakdown_notes.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        # The test and its cautions: a text browser wraps and scrolls long notes reliably.
+        self.breakdown_text = QTextBrowser()
+        self.breakdown_text.setObjectName("breakdownText")
+        self.breakdown_text.setFrameShape(QFrame.Shape.NoFrame)
+        self.breakdown_text.setOpenLinks(False)
+        self.breakdown_text.setStyleSheet("QTextBrowser { background: transparent; }")
+        self.breakdown_test = ""
+        self.breakdown_notes = ""
 
         left = QWidget()
         lv = QVBoxLayout(left)
@@ -404,14 +405,11 @@ class MissingDataView(QWidget):
         rv = QVBoxLayout(right)
         rv.setContentsMargins(8, 4, 0, 0)
         rv.addWidget(section_label("Do the groups differ?"))
-        rv.addWidget(self.breakdown_test)
-        rv.addWidget(self.breakdown_notes)
-        rv.addStretch(1)
-        right_scroll = _scrolling(right)
+        rv.addWidget(self.breakdown_text, 1)
         breakdown = QSplitter(Qt.Orientation.Horizontal)
         breakdown.setObjectName("breakdownSplitter")
         breakdown.addWidget(left)
-        breakdown.addWidget(right_scroll)
+        breakdown.addWidget(right)
         breakdown.setChildrenCollapsible(False)
         breakdown.setSizes([600, 440])
 
@@ -594,8 +592,7 @@ class MissingDataView(QWidget):
         splitter.addWidget(left)
         splitter.addWidget(_scrolling(right))
         splitter.setChildrenCollapsible(False)
-        splitter.setStretchFactor(0, 2)
-        splitter.setStretchFactor(1, 3)
+        splitter.setSizes([420, 680])
         return splitter
 
     def _connect_signals(self) -> None:
@@ -910,8 +907,7 @@ class MissingDataView(QWidget):
     def _show_breakdown_message(self, text: str, exc: BaseException | None = None) -> None:
         self.breakdown = None
         self.breakdown_model.set_frame(pd.DataFrame(), [])
-        self.breakdown_test.setText(text)
-        self.breakdown_notes.setText("")
+        self._set_breakdown_text(text, [])
         if exc is not None and not isinstance(exc, PlaincountError):
             show_error(self, exc)
 
@@ -947,13 +943,20 @@ class MissingDataView(QWidget):
                 "below 5), so the p-value is only approximate."
             )
             test += expected
-        self.breakdown_test.setText(test)
         # The core's notes, less the test line already shown above.
         notes = [n for n in result.notes if not n.startswith("Chi-square test")]
         if result.p_value is not None:
             # Cochran's verdict is in the test line above; the core's caution would repeat it.
             notes = [n for n in notes if not n.startswith("Caution: some expected counts")]
-        self.breakdown_notes.setText("\n\n".join(notes))
+        self._set_breakdown_text(test, notes)
+
+    def _set_breakdown_text(self, test: str, notes: list[str]) -> None:
+        self.breakdown_test = test
+        self.breakdown_notes = "\n\n".join(notes)
+        html = f"<p>{_escape(test)}</p>" + "".join(
+            f"<p style='color:#5f6368'>{_escape(n)}</p>" for n in notes
+        )
+        self.breakdown_text.setHtml(html)
 
     def breakdown_percentages(self) -> dict[str, float]:
         """% missing per group in the breakdown shown (empty when none is shown)."""
