@@ -109,12 +109,6 @@ def import_file(
     )
     frame, questions = source.frame, dict(source.questions)
     report: dict[str, Any] = dict(source.report)
-    # Compress the raw table on another thread while the codebook is inferred: the two
-    # together take about as long as the slower of them.
-    pool = ThreadPoolExecutor(max_workers=1)
-    blob_job = pool.submit(table_to_parquet, frame)
-    pool.shutdown(wait=False)
-
     base = project.codebook(existing_inst.id) if existing_inst else Codebook()
     if len(base):
         # A later wave: match its columns and answers to the codebook (the given maps win).
@@ -129,6 +123,12 @@ def import_file(
         # Entries given for a column that is stored under a codebook name: that entry wins.
         if codebook is not None:
             codebook = Codebook(v for v in codebook if v.name not in column_map)
+    # Compress the raw table (as stored: columns already renamed) on another thread while
+    # the codebook is inferred: the two together take about as long as the slower of them.
+    pool = ThreadPoolExecutor(max_workers=1)
+    blob_job = pool.submit(table_to_parquet, frame)
+    pool.shutdown(wait=False)
+
     if codebook is not None:
         for var in codebook:
             base = base.with_variable(var)
