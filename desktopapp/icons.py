@@ -210,6 +210,20 @@ def _ledger(p: QPainter) -> None:
         p.drawLine(QPointF(4.5, y), QPointF(11.5, y))
 
 
+def _data(p: QPainter) -> None:
+    # A grid of cells with one corrected cell marked.
+    p.setPen(_pen(INK, 1.0))
+    p.setBrush(QColor("white"))
+    p.drawRect(QRectF(1.5, 2.5, 13, 11))
+    for x in (5.8, 10.2):
+        p.drawLine(QPointF(x, 2.5), QPointF(x, 13.5))
+    for y in (6.2, 9.8):
+        p.drawLine(QPointF(1.5, y), QPointF(14.5, y))
+    p.setPen(Qt.PenStyle.NoPen)
+    p.setBrush(VERMILLION)
+    p.drawPolygon([QPointF(7.5, 6.7), QPointF(9.7, 6.7), QPointF(9.7, 8.9)])
+
+
 def _missing(p: QPainter) -> None:
     pen = _pen(INK, 1.1)
     pen.setDashPattern([1.5, 1.5])
@@ -248,6 +262,7 @@ NODE_PAINTERS: dict[str, Painter] = {
     "wave": _wave,
     "codebook": _codebook,
     "flags": _flags,
+    "data": _data,
     "ledger": _ledger,
     "missing": _missing,
     "tables": _tables,

@@ -25,6 +25,7 @@ class NodeType:
     WAVE = "wave"
     CODEBOOK = "codebook"
     FLAGS = "flags"
+    DATA = "data"
     LEDGER = "ledger"
     MISSING = "missing"
     TABLES = "tables"
@@ -33,7 +34,8 @@ class NodeType:
 
 # Children of a wave, in the order an evaluator works through them.
 WAVE_CHILDREN = (
-    (NodeType.FLAGS, "Flags"),
+    (NodeType.FLAGS, "Checks and flags"),
+    (NodeType.DATA, "Data"),
     (NodeType.LEDGER, "Ledger"),
     (NodeType.MISSING, "Missing data"),
     (NodeType.TABLES, "Tables"),

@@ -43,6 +43,9 @@ VIEW_MODULES = [
     "desktopapp.views.project_view",
     "desktopapp.views.import_view",
     "desktopapp.views.codebook_view",
+    "desktopapp.views.cleaning_view",
+    "desktopapp.views.data_grid_view",
+    "desktopapp.views.ledger_view",
     "desktopapp.views.missing_view",
     "desktopapp.views.tabulation_view",
 ]
