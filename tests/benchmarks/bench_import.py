@@ -158,11 +158,26 @@ def measure(task: str, path: str, project: str) -> dict[str, float]:
     else:
         raise SystemExit(f"unknown task {task}")
     seconds = time.perf_counter() - start
-    peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024  # KiB on Linux
+    peak = _peak_mib()
     out = {"seconds": seconds, "peak_mib": peak, "with_imports": time.perf_counter() - started}
     if task == "import":
         out["kinds"] = kinds  # type: ignore[assignment]
     return out
+
+
+def _peak_mib() -> float:
+    """Peak resident memory of this process since it started (VmHWM on Linux).
+
+    ``ru_maxrss`` would also count the parent's memory at fork time, so a child started by
+    a large parent would report the parent's size.
+    """
+    try:
+        for line in Path("/proc/self/status").read_text().splitlines():
+            if line.startswith("VmHWM:"):
+                return int(line.split()[1]) / 1024
+    except OSError:
+        pass
+    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
 
 
 def run(task: str, path: Path, project: Path) -> dict[str, float]:
