@@ -182,6 +182,14 @@ def import_file(
         if created is not None:
             _remove_empty_instrument(project, created.id)
         raise
+    carried = _carry_rules(project, stored) if labels else []
+    if carried:
+        report["carried_rules"] = carried
+        report["notes"] = [
+            *report["notes"],
+            f"{len(carried)} “every value like this” decision(s) of earlier waves were copied "
+            "into this wave's cleaning record.",
+        ]
     progress.update(100, 100, "Imported")
     return ImportResult(stored, project.codebook(inst_id), report)
 
@@ -258,6 +266,17 @@ def _remove_empty_instrument(project: Project, instrument_id: int) -> None:
                 conn.execute("DELETE FROM instruments WHERE id = ?", (instrument_id,))
     except PlaincountError:
         pass
+
+
+def _carry_rules(project: Project, wave: Wave) -> list[dict[str, Any]]:
+    """A later wave: the instrument's "every value like this" decisions apply to it too
+    (copied into its ledger with their origin; single-cell corrections are not)."""
+    from core.cleaning import rules_for_next_wave
+    from core.waves import reapply_rules
+
+    if not any(i["kind"] == "recode" for i in rules_for_next_wave(project, wave.instrument_id)):
+        return []
+    return reapply_rules(project, wave.id, flags=False).copied
 
 
 def _match_notes(match: dict[str, Any]) -> list[str]:

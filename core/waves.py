@@ -74,7 +74,7 @@ class RuleReapplication:
         }
 
 
-def reapply_rules(project: Project, wave_id: int) -> RuleReapplication:
+def reapply_rules(project: Project, wave_id: int, *, flags: bool = True) -> RuleReapplication:
     """Re-apply the instrument's cleaning rules to one wave (usually the newest).
 
     Range limits live in the codebook and consistency rules belong to the instrument, so
@@ -82,7 +82,8 @@ def reapply_rules(project: Project, wave_id: int) -> RuleReapplication:
     entries of scope "rule") of other waves are copied into this wave's ledger as one
     undoable step, each with a reason naming the wave it came from. Single-cell decisions
     (corrections, set to missing, reversals, exclusions) are never copied: they were about
-    one respondent's answer in another wave.
+    one respondent's answer in another wave. With ``flags`` False the checks are not run
+    (``flags`` in the result is then empty).
     """
     from core.cleaning import apply_rules_to_wave, flags_for, rules_for_next_wave
     from core.ledger import entries_for
@@ -115,9 +116,8 @@ def reapply_rules(project: Project, wave_id: int) -> RuleReapplication:
         skipped.append({**item, "why": why})
     codebook = project.codebook(wave.instrument_id)
     ranges = {v.name: list(v.range) for v in codebook if v.range is not None and v.name in columns}
-    run = flags_for(project, wave_id)
     counts: dict[str, int] = {}
-    for flag in run.flags:
+    for flag in flags_for(project, wave_id).flags if flags else ():
         counts[flag.check] = counts.get(flag.check, 0) + 1
     return RuleReapplication(
         wave=wave.label,

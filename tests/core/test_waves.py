@@ -299,3 +299,29 @@ def test_cli_transitions_respondents_and_compare_waves(tmp_path, capsys):
     assert out["change_pp"]["High"] == pytest.approx(100 * 3 / 9 - 100 * 2 / 7)
     assert main(["transitions", path, "age", "--waves", "entry,exit"]) == 2
     assert "ordered answers" in capsys.readouterr().err
+
+
+def test_importing_a_later_wave_carries_the_rules_forward(tmp_path):
+    from core.importing import import_file
+
+    rows = "".join(f"P{i},{['Solar', 'HVAC'][i % 2]},{20 + i}\n" for i in range(8))
+    (tmp_path / "w1.csv").write_text("resp_id,track,age\n" + rows, encoding="utf-8")
+    (tmp_path / "w2.csv").write_text("resp_id,track,age\n" + rows, encoding="utf-8")
+    with Project.create(tmp_path / "p.plaincount") as project:
+        first = import_file(project, tmp_path / "w1.csv", wave="1")
+        codebook = project.codebook(first.wave.instrument_id)
+        project.set_codebook(
+            first.wave.instrument_id,
+            codebook.with_variable(
+                codebook["track"].updated({"levels": ["Solar install", "HVAC"]})
+            ),
+        )
+        recode_all(project, first.wave.id, ["track"], "Solar", "Solar install", "Short form")
+        edit_cell(project, first.wave.id, 0, "age", "Typed wrong", value=21)
+        second = import_file(project, tmp_path / "w2.csv", wave="2")
+        entries = entries_for(project, second.wave.id)
+        assert [(e.action, e.reason) for e in entries] == [
+            (Action.RECODE_ALL, "Short form (rule from wave 1)")
+        ]
+        assert second.report["carried_rules"][0]["old_value"] == "Solar"
+        assert any("copied into this wave" in n for n in second.report["notes"])
