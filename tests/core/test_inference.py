@@ -516,3 +516,22 @@ def test_inference_on_100k_rows_counts_distinct_values_once():
     )
     cb = infer_codebook(frame)
     assert [v.kind for v in cb] == [Kind.IDENTIFIER, Kind.NUMERIC, Kind.LIKERT]
+
+
+def test_scale_helpers():
+    assert scales.normalize_label("5 - Strongly Agree.") == "strongly agree"
+    assert scales.normalize_label("Don’t know (9)") == "don't know"
+    five = (
+        "Strongly disagree",
+        "Disagree",
+        "Neither agree nor disagree",
+        "Agree",
+        "Strongly agree",
+    )
+    scale = scales.scale_for_levels(five)
+    assert scale is not None and scale.family == "agreement" and scale.neutral == 2
+    assert scales.scale_for_levels(("Agree", "Disagree")) is None  # not in natural order
+    assert scales.match_labels(["Agree"]) is None  # one point is not yet a scale
+    assert scales.match_labels(["Neutral", "Neither"]) is None  # middle words say nothing
+    named = scales.scale_named_in_text("Rate from 1 (very unlikely) to 5 (very likely)", 5)
+    assert named is not None and named[0].family == "likelihood" and named[1] is False
