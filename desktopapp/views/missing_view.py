@@ -63,11 +63,13 @@ from core.missing import (
     THRESHOLD_SOURCE,
     GroupMissing,
     Overview,
+    RespondentSummary,
     grouping_variables,
     item_summary,
     missing_by_group,
     overview,
     pattern_scan,
+    respondent_summary,
     summary_paragraphs,
 )
 from core.project import Changes
@@ -261,6 +263,7 @@ class Loaded:
     overview: Overview
     groupings: list[tuple[str, str]]  # (name, question)
     mcar_items: list[tuple[str, str, int]]  # (name, kind label, n missing)
+    respondents: RespondentSummary
     wave_label: str
     instrument_name: str
     # Where the view starts: the item with the largest share missing, broken down by the
@@ -302,12 +305,20 @@ class MissingDataView(QWidget):
         self.tabs = QTabWidget()
         self.tabs.setObjectName("missingTabs")
         self.tabs.setDocumentMode(True)
-        self.tabs.addTab(self._build_items_tab(), "Items")
-        self.tabs.addTab(self._build_words_tab(), "In words")
-        self.tabs.addTab(self._build_dropoff_tab(), "Where people stopped")
-        self.tabs.addTab(self._build_matrix_tab(), "Respondents × items")
-        self.tabs.addTab(self._build_scan_tab(), "Patterns by group")
-        self.tabs.addTab(self._build_mcar_tab(), "Random gaps test")
+        self.items_page = self._build_items_tab()
+        self.words_page = self._build_words_tab()
+        self.dropoff_page = self._build_dropoff_tab()
+        self.matrix_page = self._build_matrix_tab()
+        self.respondents_page = self._build_respondents_tab()
+        self.scan_page = self._build_scan_tab()
+        self.mcar_page = self._build_mcar_tab()
+        self.tabs.addTab(self.items_page, "Items")
+        self.tabs.addTab(self.words_page, "In words")
+        self.tabs.addTab(self.dropoff_page, "Where people stopped")
+        self.tabs.addTab(self.matrix_page, "Respondents × items")
+        self.tabs.addTab(self.respondents_page, "Share answered")
+        self.tabs.addTab(self.scan_page, "Patterns by group")
+        self.tabs.addTab(self.mcar_page, "Random gaps test")
 
         layout = QVBoxLayout(self)
         layout.setContentsMargins(16, 12, 16, 8)
@@ -480,6 +491,81 @@ class MissingDataView(QWidget):
         v.addWidget(self.matrix_chart, 1)
         return page
 
+    def _build_respondents_tab(self) -> QWidget:
+        self.respondents_summary = QLabel("")
+        self.respondents_summary.setObjectName("respondentsSummary")
+        self.respondents_summary.setWordWrap(True)
+        self.distribution_model = FrameModel(
+            [
+                Column("band", "Share of items answered", "text"),
+                Column("n_respondents", "Respondents", "int"),
+                Column("pct_respondents", "% of respondents", "pct"),
+            ]
+        )
+        self.distribution_table = _table_view("distributionTable")
+        self.distribution_table.setModel(self.distribution_model)
+        self.distribution_table.verticalHeader().setVisible(False)
+        _fit_columns(self.distribution_table.horizontalHeader(), stretch=None)
+        self.near_empty_title = section_label("Near-empty responses")
+        self.near_empty_note = muted_label("")
+        self.near_empty_model = FrameModel(
+            [
+                Column("respondent", "Respondent", "text"),
+                Column("data_row", "Row in the data", "int", "Data row in the imported file"),
+                Column("n_answered", "Answered", "int"),
+                Column("n_asked", "Asked", "int", "Items that applied to this respondent"),
+                Column("pct_answered", "% answered", "pct"),
+            ]
+        )
+        self.near_empty_table = _table_view("nearEmptyTable")
+        self.near_empty_table.setModel(self.near_empty_model)
+        self.near_empty_table.verticalHeader().setVisible(False)
+        _fit_columns(self.near_empty_table.horizontalHeader(), stretch=None)
+        left = QWidget()
+        lv = QVBoxLayout(left)
+        lv.setContentsMargins(0, 0, 8, 0)
+        lv.addWidget(section_label("How much of the questionnaire each respondent answered"))
+        lv.addWidget(self.distribution_table, 1)
+        right = QWidget()
+        rv = QVBoxLayout(right)
+        rv.setContentsMargins(8, 0, 0, 0)
+        rv.addWidget(self.near_empty_title)
+        rv.addWidget(self.near_empty_note)
+        rv.addWidget(self.near_empty_table, 1)
+        split = QSplitter(Qt.Orientation.Horizontal)
+        split.addWidget(left)
+        split.addWidget(right)
+        split.setChildrenCollapsible(False)
+        page = QWidget()
+        v = QVBoxLayout(page)
+        v.setContentsMargins(0, 8, 0, 0)
+        v.addWidget(self.respondents_summary)
+        v.addWidget(split, 1)
+        return page
+
+    def _show_respondents(self, summary: RespondentSummary) -> None:
+        n = summary.n_respondents
+        share = f"{summary.near_empty_share:.0%}"
+        self.respondents_summary.setText(
+            f"{summary.n_complete:,} of {n:,} respondents answered every item they were asked; "
+            f"half answered at least {100 * summary.median_share:.1f} % of them. Open comment "
+            "boxes are left out here: they are optional by design."
+        )
+        self.distribution_model.set_frame(summary.distribution)
+        near = summary.near_empty.copy()
+        near["data_row"] = near["row"] + 1
+        near["pct_answered"] = 100.0 * near["share_answered"]
+        self.near_empty_model.set_frame(near)
+        self.near_empty_title.setText(f"Near-empty responses: {len(near):,}")
+        self.near_empty_note.setText(
+            f"Respondents who answered fewer than {share} of the items they were asked (our own "
+            "cut-off, not a published rule). Decide whether each counts as a response at all, "
+            "and record the decision in the ledger so the report can say so."
+            if len(near)
+            else f"No respondent answered fewer than {share} of the items they were asked "
+            "(our own cut-off, not a published rule)."
+        )
+
     def _build_scan_tab(self) -> QWidget:
         self.scan_button = QPushButton("Scan every item against every category question")
         self.scan_button.setObjectName("scanButton")
@@ -648,6 +734,7 @@ class MissingDataView(QWidget):
                 working=working,
                 items=items,
                 overview=overview(working),
+                respondents=respondent_summary(working),
                 groupings=groupings,
                 mcar_items=mcar_items,
                 wave_label=wave.label,
@@ -678,6 +765,7 @@ class MissingDataView(QWidget):
         self._show_items(loaded.items)
         self._fill_groupings(loaded.groupings)
         self._fill_mcar_items(loaded.mcar_items, keep=not first)
+        self._show_respondents(loaded.respondents)
         working = loaded.working
         from core.charts_missing import draw_dropoff, draw_missing_matrix
 
@@ -1035,7 +1123,7 @@ class MissingDataView(QWidget):
         if not index.isValid() or self.scan is None:
             return
         row = self.scan.iloc[index.row()]
-        self.tabs.setCurrentIndex(0)
+        self.tabs.setCurrentWidget(self.items_page)
         self.set_grouping(str(row["by"]))
         self.select_item(str(row["variable"]))
 

@@ -20,7 +20,7 @@ from scipy import stats
 from core.demo import MANIFEST_NAME, build_demo_project
 from core.ledger import Action, Decision, record
 from core.mcar import mcar_frame
-from core.missing import item_summary
+from core.missing import item_summary, respondent_summary
 from core.working import working_data
 from desktopapp.project_tree import NodeType
 from desktopapp.views.missing_view import MARK, RIGHT, MissingDataView
@@ -47,9 +47,33 @@ def _open(window, path) -> MissingDataView:
     return view
 
 
+@pytest.fixture(scope="module")
+def shared(demo, qapp, tmp_path_factory):
+    """One window on the demo for the tests that only read (opening it is the slow part)."""
+    from PySide6.QtCore import QSettings
+
+    from desktopapp.main_window import MainWindow
+
+    folder = tmp_path_factory.mktemp("qsettings_shared")
+    for fmt in (QSettings.Format.NativeFormat, QSettings.Format.IniFormat):
+        QSettings.setPath(fmt, QSettings.Scope.UserScope, str(folder))
+    win = MainWindow(synchronous=True)
+    win.show()
+    _open(win, demo[0])
+    yield win
+    win.close_project()
+    win.close()
+    win.deleteLater()
+
+
 @pytest.fixture
-def view(window, demo) -> MissingDataView:
-    return _open(window, demo[0])
+def view(shared) -> MissingDataView:
+    """The shared window's view, back at its starting state after each test."""
+    view = shared.view
+    assert isinstance(view, MissingDataView)
+    yield view
+    view.tabs.setCurrentWidget(view.items_page)
+    view.threshold_spin.setValue(5.0)
 
 
 def _reference_summary(window, view) -> pd.DataFrame:
@@ -68,8 +92,8 @@ def test_missing_node_is_in_the_tree_for_every_wave(window, demo):
     assert len(nodes) == len(window.project.waves()) == 2
 
 
-def test_item_table_shows_item_summary(window, view, demo):
-    ref = _reference_summary(window, view)
+def test_item_table_shows_item_summary(shared, view, demo):
+    ref = _reference_summary(shared, view)
     model = view.item_model
     assert model.rowCount() == len(ref) >= 30
     for name in ("age", "household_income_band", "employed_in_field", "gender"):
@@ -113,8 +137,8 @@ def test_item_table_shows_item_summary(window, view, demo):
     assert "dont_know" not in keys and "set_missing" not in keys
 
 
-def test_threshold_moves_the_markers(qtbot, window, view):
-    ref = _reference_summary(window, view)
+def test_threshold_moves_the_markers(qtbot, shared, view):
+    ref = _reference_summary(shared, view)
     marker = view.item_model.column_of("above_threshold")
     assert view.threshold == 5.0
 
@@ -205,8 +229,7 @@ def test_an_item_cannot_be_broken_down_by_itself(view):
 
 
 def test_pattern_scan_ranks_income_by_gender_first(qtbot, view):
-    assert view.scan is None
-    view.tabs.setCurrentIndex(4)
+    view.tabs.setCurrentWidget(view.scan_page)
     qtbot.mouseClick(view.scan_button, Qt.MouseButton.LeftButton)
     model = view.scan_model
     assert model.rowCount() == len(view.scan) > 100
@@ -221,12 +244,12 @@ def test_pattern_scan_ranks_income_by_gender_first(qtbot, view):
     view.set_grouping("cohort")
     view.select_item("age")
     view.scan_table.doubleClicked.emit(model.index(0, 0))
-    assert view.tabs.currentIndex() == 0
+    assert view.tabs.currentWidget() is view.items_page
     assert view.breakdown.variable == "household_income_band"
     assert view.breakdown.by == "gender"
 
 
-def test_little_mcar_on_numeric_items(qtbot, window, view):
+def test_little_mcar_on_numeric_items(qtbot, shared, view):
     offered = [
         view.mcar_list.item(i).data(Qt.ItemDataRole.UserRole) for i in range(view.mcar_list.count())
     ]
@@ -234,7 +257,7 @@ def test_little_mcar_on_numeric_items(qtbot, window, view):
         n for n in ("age", "credits_term", "hours_work_week", "years_experience") if n in offered
     ]
     assert len(names) >= 3
-    view.tabs.setCurrentIndex(5)
+    view.tabs.setCurrentWidget(view.mcar_page)
     view.set_mcar_items(names)
     assert view.mcar_checked() == names
     qtbot.mouseClick(view.mcar_run_button, Qt.MouseButton.LeftButton)
@@ -242,7 +265,7 @@ def test_little_mcar_on_numeric_items(qtbot, window, view):
     assert result is not None
     # Patterns and degrees of freedom counted here with pandas: df = sum over missing-data
     # patterns of the items observed in it, minus the number of items (Little 1988).
-    frame = mcar_frame(working_data(window.project, view.wave_id), names)
+    frame = mcar_frame(working_data(shared.project, view.wave_id), names)
     observed = ~frame.isna()
     patterns = observed.drop_duplicates()
     df = int(patterns[patterns.any(axis=1)].sum(axis=1).sum()) - len(names)
@@ -263,8 +286,10 @@ def test_little_mcar_on_numeric_items(qtbot, window, view):
 
 
 def test_charts_are_drawn_on_their_tabs(view):
-    for tab, chart in ((2, view.dropoff_chart), (3, view.matrix_chart)):
-        view.tabs.setCurrentIndex(tab)
+    charts = ((view.dropoff_page, view.dropoff_chart), (view.matrix_page, view.matrix_chart))
+    for page, chart in charts:
+        view.tabs.setCurrentWidget(page)
+        assert chart.isVisible()
         chart.render_now()
         assert chart.message == ""
         assert len(chart.figure.axes) == 1
@@ -294,3 +319,78 @@ def test_view_follows_ledger_decisions_and_undo(window, demo, tmp_path):
     window.undo.undo_action.trigger()
     assert int(view.item_model.text(_row(view, "agree_6"), "n_missing")) == before
     assert view.item_model.column_of("set_missing") == -1
+
+
+def test_share_answered_and_near_empty_responses(shared, view):
+    working = working_data(shared.project, view.wave_id)
+    ref = respondent_summary(working)
+    view.tabs.setCurrentWidget(view.respondents_page)
+    dist = view.distribution_model
+    assert dist.rowCount() == 11
+    counts = [int(dist.text(r, "n_respondents").replace(",", "")) for r in range(11)]
+    assert counts == list(ref.distribution["n_respondents"])
+    assert sum(counts) == len(working.analysed()[0])
+    near = view.near_empty_model
+    assert near.rowCount() == len(ref.near_empty)
+    assert f"Near-empty responses: {len(ref.near_empty)}" == view.near_empty_title.text()
+    if len(ref.near_empty):
+        first = ref.near_empty.iloc[0]
+        assert near.text(0, "respondent") == str(first["respondent"])
+        assert near.text(0, "data_row") == str(int(first["row"]) + 1)  # 1-based, as in the file
+    assert f"{ref.n_complete:,} of {ref.n_respondents:,}" in view.respondents_summary.text()
+
+
+def test_a_wave_without_question_items_is_explained_in_words(window, tmp_path):
+    from PySide6.QtWidgets import QMessageBox
+
+    from core.codebook import Codebook, Variable
+    from core.kinds import Kind
+    from core.project import Project
+
+    frame = pd.DataFrame({"resp_id": ["A1", "A2", "A3"]})
+    path = tmp_path / "ids_only.plaincount"
+    with Project.create(path, name="Only identifiers") as project:
+        inst = project.add_instrument(
+            "Sign-in sheet", Codebook([Variable("resp_id", "Respondent", Kind.IDENTIFIER)])
+        )
+        project.add_wave(inst.id, "2026", "ids.csv", b"resp_id\nA1\nA2\nA3\n", frame)
+    assert window.open_project(path)
+    assert window.show_node(NodeType.MISSING)
+    view = window.view
+    assert isinstance(view, MissingDataView)
+    assert view.loaded is None
+    assert view.totals_label.text() == "This wave has no question items to examine."
+    assert not view.tabs.isEnabled()
+    assert not window.findChildren(QMessageBox)
+
+
+def test_figure_canvas_shows_failures_in_words(qtbot):
+    from core.errors import PlaincountError
+    from desktopapp.widgets.figure_canvas import FigureCanvasWidget
+
+    canvas = FigureCanvasWidget()
+    qtbot.addWidget(canvas)
+    canvas.show()
+
+    def broken(figure):
+        raise PlaincountError("No respondents are left to draw in this wave.")
+
+    canvas.set_drawer(broken)
+    assert canvas.message == "No respondents are left to draw in this wave."
+    assert isinstance(canvas.error, PlaincountError)
+    canvas.set_drawer(None, "Choose a wave.")
+    assert canvas.message == "Choose a wave."
+
+    def line(figure):
+        figure.add_subplot(1, 1, 1).plot([1, 2, 3], [2, 1, 3])
+
+    canvas.set_drawer(line)
+    canvas.render_now()
+    assert canvas.message == "" and len(canvas.figure.axes) == 1
+    # A hidden canvas waits until it is shown.
+    canvas.hide()
+    canvas.set_drawer(broken)
+    assert canvas.stale and canvas.message == ""
+    canvas.show()
+    qtbot.waitUntil(lambda: not canvas.stale)
+    assert canvas.message.startswith("No respondents")
