@@ -37,6 +37,14 @@ def register(sub: argparse._SubParsersAction) -> None:
     )
     p.add_argument("--encoding", help="text encoding of a CSV/TSV file (default: detected)")
     p.add_argument("--delimiter", help="column separator of a CSV/TSV file, or 'tab'")
+    p.add_argument(
+        "--map",
+        action="append",
+        default=[],
+        metavar="COLUMN=NAME",
+        help="a later wave: store this file column as codebook entry NAME (COLUMN=COLUMN adds "
+        "it as a new question); overrides the automatic match",
+    )
     p.add_argument("--json", action="store_true", help="print the import report as JSON")
     p.set_defaults(func=_import)
 
@@ -67,6 +75,7 @@ def _import(args: argparse.Namespace) -> int:
             encoding=args.encoding,
             delimiter=args.delimiter,
             progress=progress,
+            column_map=_column_map(args.map),
         )
         if sys.stderr.isatty() and not args.json:
             sys.stderr.write("\n")
@@ -106,6 +115,18 @@ def _import(args: argparse.Namespace) -> int:
         for note in report.get("notes", []):
             print(note)
     return 0
+
+
+def _column_map(pairs: list[str]) -> dict[str, str] | None:
+    out = {}
+    for pair in pairs:
+        column, sep, name = pair.partition("=")
+        if not sep or not column.strip() or not name.strip():
+            raise PlaincountError(
+                f"--map takes COLUMN=NAME, for example work_hours=hours; not {pair!r}."
+            )
+        out[column.strip()] = name.strip()
+    return out or None
 
 
 def _printer():  # noqa: ANN202 - small closure for the terminal progress line

@@ -264,3 +264,59 @@ def test_an_answer_left_as_it_is_gets_no_guess():
     )
     assert "agree_1" not in report.level_maps
     assert report.unknown_answers["agree_1"] == ["Completely agree"]
+
+
+def test_cli_import_prints_the_match_and_takes_overrides(tmp_path, capsys):
+    from core.cli.main import main
+
+    head = "resp_id,{h},done\nID,About how many hours a week do you work?,Completed?\n"
+    rows = "".join(f"P{i},{10 + i},{'Yes' if i % 2 else 'No'}\n" for i in range(12))
+    for name, column in (
+        ("w1.csv", "hours"),
+        ("w2.csv", "weekly_hours"),
+        ("w3.csv", "weekly_hours"),
+    ):
+        (tmp_path / name).write_text(head.format(h=column) + rows, encoding="utf-8")
+    path = str(tmp_path / "p.plaincount")
+    assert main(["new", path]) == 0
+    assert (
+        main(["import", path, str(tmp_path / "w1.csv"), "--wave", "1", "--header-rows", "2"]) == 0
+    )
+    capsys.readouterr()
+    assert (
+        main(
+            [
+                "import",
+                path,
+                str(tmp_path / "w2.csv"),
+                "--wave",
+                "2",
+                "--header-rows",
+                "2",
+                "--json",
+            ]
+        )
+        == 0
+    )
+    match = json.loads(capsys.readouterr().out)["report"]["match"]
+    assert match["renamed"] == ["weekly_hours"] and match["column_map"] == {"weekly_hours": "hours"}
+    assert (
+        main(
+            [
+                "import",
+                path,
+                str(tmp_path / "w3.csv"),
+                "--wave",
+                "3",
+                "--header-rows",
+                "2",
+                "--map",
+                "weekly_hours=weekly_hours",
+            ]
+        )
+        == 0
+    )
+    out = capsys.readouterr().out
+    assert "New question(s) added to the codebook: weekly_hours." in out
+    assert main(["import", path, str(tmp_path / "w3.csv"), "--wave", "4", "--map", "oops"]) == 2
+    assert "COLUMN=NAME" in capsys.readouterr().err
