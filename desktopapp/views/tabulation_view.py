@@ -26,7 +26,7 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
-from PySide6.QtCore import QAbstractTableModel, QMimeData, QModelIndex, Qt, QUrl, Signal
+from PySide6.QtCore import QAbstractTableModel, QEvent, QMimeData, QModelIndex, Qt, QUrl, Signal
 from PySide6.QtGui import (
     QAction,
     QBrush,
@@ -86,10 +86,11 @@ METHODS_ANCHORS = {
     "multiselect": "choose-all-that-apply",
 }
 UNSTABLE_TINT = QColor("#FFF1CC")  # a pale amber behind percentages of tiny groups
-HEADER_WRAP = 16
+HEADER_WRAP = 16  # characters per header line: long answer labels wrap instead of widening
 # The chart in the window is drawn at a high resolution for its size, so that its type (sized
 # for slides) stays readable in a pane a third of the screen wide.
-CHART_DPI = 110  # characters per header line: long answer labels wrap instead of widening
+CHART_DPI = 110
+CHART_MIN_WIDTH = 360
 
 PERCENT_LABELS = {
     "row": "Within each group (row %)",
@@ -250,12 +251,20 @@ class ResultTableModel(QAbstractTableModel):
         super().__init__(parent)
         self._result: TableResult | None = None
         self._min_cell = 5
+        self._numeric_cols = set()
 
     def set_result(self, result: TableResult | None) -> None:
         self.beginResetModel()
         self._result = result
+        self._numeric_cols: set[int] = set()
         if result is not None:
             self._min_cell = int(result.data.get("min_cell", 5) or 0)
+            # A column of numbers keeps all its cells right-aligned, also a text cell in it
+            # (the modes of a statistics table), so the column reads as one.
+            for row in result.rows:
+                for c, cell in enumerate(row):
+                    if c > 0 and (cell.numeric or cell.suppressed):
+                        self._numeric_cols.add(c)
         self.endResetModel()
 
     def result(self) -> TableResult | None:
@@ -290,7 +299,7 @@ class ResultTableModel(QAbstractTableModel):
         if role == Qt.ItemDataRole.DisplayRole:
             return cell.display
         if role == Qt.ItemDataRole.TextAlignmentRole:
-            if index.column() > 0 and (cell.numeric or cell.suppressed):
+            if index.column() in self._numeric_cols:
                 return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
             return int(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter)
         if role == Qt.ItemDataRole.FontRole:
@@ -331,7 +340,8 @@ class ResultTableModel(QAbstractTableModel):
         if role == Qt.ItemDataRole.ToolTipRole:
             return name
         if role == Qt.ItemDataRole.TextAlignmentRole:
-            align = Qt.AlignmentFlag.AlignLeft if section == 0 else Qt.AlignmentFlag.AlignRight
+            right = section in self._numeric_cols
+            align = Qt.AlignmentFlag.AlignRight if right else Qt.AlignmentFlag.AlignLeft
             return int(align | Qt.AlignmentFlag.AlignVCenter)
         return None
 
@@ -395,7 +405,7 @@ class TabulationView(QWidget):
         self.splitter.addWidget(self.tabs)
         self.splitter.setStretchFactor(0, 0)
         self.splitter.setStretchFactor(1, 1)
-        self.splitter.setSizes([280, 1000])
+        self.splitter.setSizes([230, 1000])
         self.splitter.setChildrenCollapsible(False)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
@@ -441,7 +451,7 @@ class TabulationView(QWidget):
             combo.setMinimumContentsLength(12)
 
         self._picker = QWidget()
-        self._picker.setMinimumWidth(250)
+        self._picker.setMinimumWidth(200)
         lv = QVBoxLayout(self._picker)
         lv.setContentsMargins(12, 12, 6, 12)
         lv.addWidget(section_label("Question"))
@@ -489,14 +499,16 @@ class TabulationView(QWidget):
         grid.setHorizontalSpacing(8)
         grid.setVerticalSpacing(4)
         self._option_rows: dict[str, tuple[QLabel, QWidget]] = {}
+        # The options every table has come first; of the four below them at most one
+        # applies to any one table, so they share a place.
         placed = [
-            ("percent", "Percentages", self.percent_combo, 0, 0),
-            ("treatment", "Missing answers", self.treatment_combo, 0, 2),
-            ("chart", "Chart", self.chart_combo, 0, 4),
-            ("min_cell", "Hide counts below", self.min_cell_spin, 1, 0),
-            ("sort", "Order", self.sort_combo, 1, 2),
-            ("sd", "Standard deviation", self.sd_combo, 1, 2),
-            ("borda", "Partial rankings", self.borda_combo, 1, 2),
+            ("treatment", "Missing answers", self.treatment_combo, 0, 0),
+            ("chart", "Chart", self.chart_combo, 0, 2),
+            ("min_cell", "Hide counts below", self.min_cell_spin, 0, 4),
+            ("percent", "Percentages", self.percent_combo, 1, 0),
+            ("sort", "Order", self.sort_combo, 1, 0),
+            ("sd", "Standard deviation", self.sd_combo, 1, 0),
+            ("borda", "Partial rankings", self.borda_combo, 1, 0),
         ]
         for key, text, widget, row, col in placed:
             label = QLabel(text)
@@ -508,9 +520,10 @@ class TabulationView(QWidget):
         checks.addWidget(self.mean_check)
         checks.addWidget(self.tests_check)
         checks.addStretch(1)
-        grid.addLayout(checks, 1, 4, 1, 2)
-        for col in (1, 3, 5):
+        grid.addLayout(checks, 1, 2, 1, 4)
+        for col in (1, 3):
             grid.setColumnStretch(col, 1)
+        self.min_cell_spin.setMaximumWidth(90)
 
         # ---- caption, table, notes
         self.title_label = QLabel("")
@@ -581,7 +594,7 @@ class TabulationView(QWidget):
 
         from desktopapp.widgets.figure_canvas import FigureCanvasWidget
 
-        self.chart = FigureCanvasWidget(dpi=CHART_DPI, minimum=(360, 280))
+        self.chart = FigureCanvasWidget(dpi=CHART_DPI, minimum=(CHART_MIN_WIDTH - 20, 280))
         self.chart.setObjectName("resultChart")
         # Clicking the chart gives it the focus, so Ctrl+C then copies the chart.
         self.chart.canvas.setFocusPolicy(Qt.FocusPolicy.StrongFocus)
@@ -593,6 +606,9 @@ class TabulationView(QWidget):
         self.result_splitter.addWidget(self.chart)
         self.result_splitter.setChildrenCollapsible(False)
         self.result_splitter.setSizes([560, 440])
+        self._splitter_moved = False  # once the evaluator drags it, the view leaves it alone
+        self._table_ideal = 0
+        self.result_splitter.installEventFilter(self)
 
         # ---- keep and copy
         self.finding_edit = QLineEdit()
@@ -672,6 +688,7 @@ class TabulationView(QWidget):
         self.table.copy_requested.connect(self.copy_table)
         self.gallery.open_requested.connect(self._on_gallery_open_requested)
         self.tabs.currentChanged.connect(self._on_tabs_current_changed)
+        self.result_splitter.splitterMoved.connect(self._on_result_splitter_moved)
         app = QApplication.instance()
         if app is not None:
             app.focusChanged.connect(self._on_app_focus_changed)
@@ -1084,8 +1101,23 @@ class TabulationView(QWidget):
         if first:
             header.resizeSection(0, first)
         for col in range(1, self.model.columnCount()):
-            header.resizeSection(col, min(max(header.sectionSize(col), 56), 160))
+            header.resizeSection(col, min(max(header.sectionSize(col), 48), 90))
         self.table.resizeRowsToContents()
+        self._table_ideal = header.length() + self.table.frameWidth() * 2 + 20  # + scroll bar
+        self._apply_split()
+
+    def _apply_split(self) -> None:
+        """Give the table the width it needs, as long as the chart keeps a readable size."""
+        total = self.result_splitter.width() - self.result_splitter.handleWidth()
+        if self._splitter_moved or not self._table_ideal or total <= 0:
+            return
+        table_w = max(min(self._table_ideal, total - CHART_MIN_WIDTH), total // 3)
+        self.result_splitter.setSizes([table_w, total - table_w])
+
+    def eventFilter(self, watched: Any, event: Any) -> bool:  # noqa: N802 - Qt override
+        if watched is self.result_splitter and event.type() == QEvent.Type.Resize:
+            self._apply_split()
+        return super().eventFilter(watched, event)
 
     def _on_table_failed(self, exc: BaseException) -> None:
         from desktopapp.errors import message_for
@@ -1222,6 +1254,9 @@ class TabulationView(QWidget):
     def show_gallery(self) -> None:
         self.tabs.setCurrentWidget(self.gallery)
 
+    def _on_result_splitter_moved(self, _pos: int, _index: int) -> None:
+        self._splitter_moved = True
+
     def _on_tabs_current_changed(self, _index: int) -> None:
         if self.tabs.currentWidget() is self.gallery:
             self.gallery.refresh_if_stale()
@@ -1260,9 +1295,10 @@ class TabulationView(QWidget):
             self.gallery.project_changed(changes)
 
     def prepare_screenshot(self) -> None:
-        """Show a finding worth a picture: overall satisfaction by cohort, drawn at once."""
-        if self.select_variable("overall_satisfaction"):
+        """Show a comparison worth a picture (age by cohort), with its chart drawn at once."""
+        if self.select_variable("age"):
             self.set_breakdown("cohort")
+        QApplication.processEvents()  # let the window lay the view out before drawing
         self.chart.render_now()
 
     def screenshot_states(self) -> list[tuple[str, Callable[[], None]]]:
