@@ -8,6 +8,7 @@ One heading with the wave's totals, then tabs an evaluator works through from le
   a grouping question, with a chi-square test as a screening aid.
 * In words — the plain-language paragraphs the report uses.
 * Where people stopped — the drop-off chart. Respondents x items — the missing-data matrix.
+* Share answered — how much of the questionnaire each respondent answered; near-empty ones.
 * Patterns by group — a scan of every item against every category question, ranked.
 * Random gaps — Little's test of "missing completely at random" over chosen items.
 
@@ -532,6 +533,7 @@ class MissingDataView(QWidget):
         rv.addWidget(self.near_empty_title)
         rv.addWidget(self.near_empty_note)
         rv.addWidget(self.near_empty_table, 1)
+        rv.addStretch(0)
         split = QSplitter(Qt.Orientation.Horizontal)
         split.addWidget(left)
         split.addWidget(right)
@@ -556,6 +558,7 @@ class MissingDataView(QWidget):
         near["data_row"] = near["row"] + 1
         near["pct_answered"] = 100.0 * near["share_answered"]
         self.near_empty_model.set_frame(near)
+        self.near_empty_table.setVisible(len(near) > 0)
         self.near_empty_title.setText(f"Near-empty responses: {len(near):,}")
         self.near_empty_note.setText(
             f"Respondents who answered fewer than {share} of the items they were asked (our own "
@@ -1186,6 +1189,7 @@ class MissingDataView(QWidget):
             lambda _p: little_mcar_for(working, names),
             on_success=self._show_mcar,
             on_failure=self._on_mcar_failed,
+            on_cancelled=lambda: self._show_mcar_message("Stopped before the test finished."),
             key=f"{self._key}:mcar",
             label="Running Little's test…",
         )
@@ -1333,6 +1337,8 @@ def _fit_columns(header: QHeaderView, stretch: int | None) -> None:
 def _scrolling(widget: QWidget) -> QScrollArea:
     area = QScrollArea()
     area.setWidgetResizable(True)
+    # Wrapped text must wrap at the visible width, never run under a sideways scroll bar.
+    area.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
     area.setFrameShape(QFrame.Shape.NoFrame)
     area.setWidget(widget)
     return area
