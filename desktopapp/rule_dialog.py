@@ -91,6 +91,13 @@ def split_values(text: str, levels: tuple[str, ...]) -> list[str]:
     return out
 
 
+def _number_or_text(text: str) -> Any:
+    try:
+        return float(text.replace(",", ""))
+    except ValueError:
+        return text  # the rule check says why it cannot be compared
+
+
 class ConditionRow(QWidget):
     """One condition: variable, comparison, value (an answer of the variable, or typed)."""
 
@@ -190,7 +197,9 @@ class ConditionRow(QWidget):
         text = self.value_combo.currentText().strip()
         if not text:
             raise RuleError(f"Choose or type the value {var.name} is compared with.")
-        values = split_values(text, var.levels) if "one of" in op else [text]
+        values: list[Any] = split_values(text, var.levels) if "one of" in op else [text]
+        if var.kind in (Kind.NUMERIC, Kind.RANKING):
+            values = [_number_or_text(v) for v in values]
         return Condition(var.name, op, tuple(values))
 
 

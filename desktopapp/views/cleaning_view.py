@@ -553,8 +553,15 @@ class CleaningView(QWidget):
             self._collapsed.discard(index.data(CHECK_ROLE))
 
     def selected_flags(self) -> list[Flag]:
-        rows = self.flag_tree.selectionModel().selectedRows(0)
-        return self.model.flags_under(rows)
+        return self.model.flags_under(self._selected_rows())
+
+    def _selected_rows(self) -> list[QModelIndex]:
+        # One index per selected row (column 0), however the row was selected.
+        seen: dict[tuple[int, int], QModelIndex] = {}
+        for index in self.flag_tree.selectionModel().selectedIndexes():
+            first = index.siblingAtColumn(0)
+            seen.setdefault((first.row(), first.internalId()), first)
+        return list(seen.values())
 
     def select_flag(self, flag_or_key: Flag | tuple[Any, ...]) -> bool:
         """Select one flag (by Flag or its key); False if it is not listed."""
@@ -623,7 +630,7 @@ class CleaningView(QWidget):
 
     def _on_selection_changed(self, *_args: Any) -> None:
         flags = self.selected_flags()
-        rows = self.flag_tree.selectionModel().selectedRows(0)
+        rows = self._selected_rows()
         single = len(flags) == 1 and len(rows) == 1 and self.model.flag_at(rows[0]) is not None
         if not flags:
             self.current_flag = None
