@@ -652,6 +652,12 @@ def transition_table(
     for work, w in ((work_a, wa), (work_b, wb)):
         if variable not in work.values.columns or variable not in project.raw_table(w.id):
             raise PlaincountError(f"{variable} was not asked in wave {w.label}.")
+    other = work_a.codebook.get(variable)
+    if other is None or tuple(other.levels) != tuple(levels):
+        raise PlaincountError(
+            f"{variable} has different answers in the two questionnaires; a transition table "
+            "needs the same ordered answers in both waves."
+        )
     ids_a, _ = _people(work_a)
     ids_b, _ = _people(work_b)
     code_a = pd.Series(
