@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import json
 import shutil
+from dataclasses import replace
 
 import numpy as np
 import pandas as pd
@@ -319,6 +320,26 @@ def test_view_follows_ledger_decisions_and_undo(window, demo, tmp_path):
     window.undo.undo_action.trigger()
     assert int(view.item_model.text(_row(view, "agree_6"), "n_missing")) == before
     assert view.item_model.column_of("set_missing") == -1
+
+    # A codebook change refreshes the view too: 'Prefer not to say' stops being a missing code
+    # for gender, so those answers count as answered (counted here with pandas).
+    project = window.project
+    instrument_id = project.wave(view.wave_id).instrument_id
+    gender = project.codebook(instrument_id)["gender"]
+    assert "Prefer not to say" in gender.missing_codes
+    raw = project.raw_table(view.wave_id)["gender"]
+    n_declined = int((raw.astype(str).str.strip() == "Prefer not to say").sum())
+    assert n_declined == int(view.item_model.text(_row(view, "gender"), "declined")) > 0
+    missing_before = int(view.item_model.text(_row(view, "gender"), "n_missing"))
+    codes = {k: v for k, v in gender.missing_codes.items() if k != "Prefer not to say"}
+    levels = (*gender.levels, "Prefer not to say")
+    codebook = project.codebook(instrument_id).with_variable(
+        replace(gender, missing_codes=codes, levels=levels)
+    )
+    project.set_codebook(instrument_id, codebook, label="Count 'Prefer not to say' as an answer")
+    row = _row(view, "gender")
+    assert int(view.item_model.text(row, "n_missing")) == missing_before - n_declined
+    assert view.item_model.text(row, "declined") == "0"
 
 
 def test_share_answered_and_near_empty_responses(shared, view):
