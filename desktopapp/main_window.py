@@ -187,6 +187,8 @@ class MainWindow(QMainWindow):
         self.start_page.open_path_requested.connect(self._on_start_page_open_path_requested)
         self.start_page.demo_requested.connect(self.open_demo)
         self.tree.node_changed.connect(self._on_tree_node_changed)
+        self.tree.setContextMenuPolicy(Qt.ContextMenuPolicy.CustomContextMenu)
+        self.tree.customContextMenuRequested.connect(self._on_tree_menu_requested)
         self.project_changed.connect(self._on_project_changed)
         self.runner.writing_changed.connect(self._on_runner_writing_changed)
         self._saving_timer.timeout.connect(self._update_title)
@@ -292,6 +294,9 @@ class MainWindow(QMainWindow):
         project.listeners.append(self._on_core_changes)
         self.recent.add(project.path)
         self.undo.set_project(project)
+        # Undo of outline and rule steps needs their handlers, registered on import.
+        importlib.import_module("core.outline")
+        importlib.import_module("core.rules")
         registry = self.registry
         self.tree.set_filter(lambda node_type: node_type in registry)
         self._pages.setCurrentWidget(self.splitter)
@@ -334,6 +339,31 @@ class MainWindow(QMainWindow):
         if current is not None and current == node:
             return
         self._set_view(node)
+
+    def _on_tree_menu_requested(self, pos: Any) -> None:
+        item = self.tree.itemAt(pos)
+        menu = self.tree_menu(item.data(0, Qt.ItemDataRole.UserRole) if item else None)
+        if menu is not None:
+            menu.popup(self.tree.viewport().mapToGlobal(pos))
+
+    def tree_menu(self, node: TreeNode | None) -> QMenu | None:
+        """The context menu of a tree node (None: it has none)."""
+        if node is None or node.type != NodeType.WAVE or self.project is None:
+            return None
+        menu = QMenu(self)
+        menu.setAttribute(Qt.WidgetAttribute.WA_DeleteOnClose)
+        act = menu.addAction("Sampling and response rates…")
+        act.setObjectName("samplingAction")
+        act.triggered.connect(lambda _c=False, w=node.wave_id: self.open_sampling_dialog(w))
+        return menu
+
+    def open_sampling_dialog(self, wave_id: int, tab: int = 0) -> QWidget | None:
+        """The wave's population/sample setting, sample size and response rates."""
+        if self.project is None:
+            return None
+        from desktopapp.sampling_dialog import open_sampling_dialog
+
+        return open_sampling_dialog(self, self.project, self.runner, wave_id, tab)
 
     def _set_view(self, node: TreeNode | None) -> None:
         old = self.view

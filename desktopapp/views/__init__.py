@@ -48,6 +48,7 @@ VIEW_MODULES = [
     "desktopapp.views.ledger_view",
     "desktopapp.views.missing_view",
     "desktopapp.views.tabulation_view",
+    "desktopapp.views.export_view",
 ]
 
 

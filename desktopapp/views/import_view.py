@@ -103,6 +103,13 @@ class ImportView(QWidget):
             "The project keeps the exact file that was imported. Save a copy of it."
         )
         self.save_source_button.clicked.connect(self._on_save_source_button_clicked)
+        self.sampling_button = QPushButton("Sampling and response rates…")
+        self.sampling_button.setObjectName("samplingButton")
+        self.sampling_button.setToolTip(
+            "Whether this wave reached everyone or a sample, sample sizes, and response rates."
+        )
+        self.sampling_button.clicked.connect(self._on_sampling_button_clicked)
+        head.addWidget(self.sampling_button)
         head.addWidget(self.save_source_button)
         head.addWidget(self.import_button)
         self._layout.addLayout(head)
@@ -245,6 +252,33 @@ class ImportView(QWidget):
 
     def _on_import_button_clicked(self) -> None:
         self._context.import_requested(None, self.node.instrument_id)
+
+    def _on_sampling_button_clicked(self) -> None:
+        self.sampling_dialog()
+
+    def sampling_dialog(self, show: bool = True) -> Any:
+        """The wave's sampling and response-rate dialog (shown unless ``show`` is False)."""
+        from desktopapp.sampling_dialog import SamplingDialog, open_sampling_dialog
+
+        if show:
+            return open_sampling_dialog(
+                self, self._context.project, self._context.runner, self.node.wave_id
+            )
+        return SamplingDialog(
+            self._context.project, self._context.runner, self.node.wave_id, parent=self
+        )
+
+    def screenshot_dialogs(self) -> list[tuple[str, Any]]:
+        if self.node.type != NodeType.WAVE:
+            return []
+        dialogs = []
+        for tab, name in enumerate(("sampling", "sample-size", "response-rates")):
+            dialog = self.sampling_dialog(show=False)
+            dialog.tabs.setCurrentIndex(tab)
+            if name == "response-rates":
+                dialog.count_from_data()  # what the evaluator sees after pressing it
+            dialogs.append((name, dialog))
+        return dialogs
 
     def _on_save_source_button_clicked(self) -> None:
         name, data = self._context.project.source_file(self.node.wave_id)
