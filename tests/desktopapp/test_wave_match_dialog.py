@@ -135,3 +135,32 @@ def test_going_back_from_the_review_imports_nothing(window, tmp_path, demo_files
     assert dialog.isVisible() and dialog.wave_choices is None
     assert [w.label for w in window.project.waves()] == ["2026"]
     dialog.reject()
+
+
+def test_the_imported_wave_follows_the_choices_changed_in_the_review(
+    window, tmp_path, demo_files, qtbot
+):
+    assert window.new_project(tmp_path / "eval.plaincount")
+    import_file(
+        window.project,
+        demo_files / demo.FILE_NAMES["2026"],
+        instrument=demo.INSTRUMENT,
+        wave="2026",
+        header_rows=2,
+    )
+    window.request_import([demo_files / demo.FILE_NAMES["2027"]])
+    dialog = window.import_dialog
+    qtbot.waitUntil(lambda: dialog.import_button.isEnabled(), timeout=10000)
+    dialog.import_button.click()
+    review = dialog.wave_review
+    review.set_target("work_hours_week", None)  # keep it as a question of its own
+    review.set_level("use_coaching", "Now and then", None)  # leave this answer as it is
+    review.import_button.click()
+    project = window.project
+    wave = project.waves()[-1]
+    codebook = project.codebook(wave.instrument_id)
+    assert wave.label == "2027" and "work_hours_week" in codebook
+    assert "work_hours_week" in project.raw_table(wave.id).columns
+    assert "Now and then" not in codebook["use_coaching"].value_labels
+    assert codebook["use_tutoring"].value_labels["Now and then"] == "Sometimes"
+    assert wave.import_report["match"]["unknown_answers"] == {"use_coaching": ["Now and then"]}
