@@ -83,14 +83,16 @@ class CheckSettingsDialog(QDialog):
         self.agree_spin.setObjectName("agreeCut")
 
         outliers = QGroupBox("Outliers")
-        of = QFormLayout(outliers)
+        of = QFormLayout()
         of.addRow("Method", self.method_combo)
         of.addRow("Inner fence (times the IQR)", self.inner_spin)
         of.addRow("Outer fence (times the IQR)", self.outer_spin)
         of.addRow("Quartiles", self.quantile_combo)
         of.addRow("Modified z-score cut-off", self.z_spin)
         of.addRow("Fewest answers to look for outliers", self.min_answers_spin)
-        of.addRow(
+        outliers_layout = QVBoxLayout(outliers)
+        outliers_layout.addLayout(of)
+        outliers_layout.addWidget(
             muted_label(
                 "Tukey's fences: beyond 1.5 x IQR from the quartiles is 'outside', beyond 3 x is "
                 "'far out'. Modified z-score: 0.6745 x distance from the median / median "
@@ -127,6 +129,7 @@ class CheckSettingsDialog(QDialog):
             lambda: self.show_settings(CheckSettings())
         )
         layout = QVBoxLayout(self)
+        self.setMinimumWidth(640)
         layout.addWidget(outliers)
         layout.addWidget(others)
         layout.addWidget(enabled)

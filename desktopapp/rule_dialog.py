@@ -208,7 +208,9 @@ class ConditionList(QWidget):
 
     changed = Signal()
 
-    def __init__(self, codebook: Codebook, first_row: bool, parent: QWidget | None = None) -> None:
+    def __init__(
+        self, codebook: Codebook, first_row: bool, lead: str, parent: QWidget | None = None
+    ) -> None:
         super().__init__(parent)
         self.codebook = codebook
         self.rows: list[ConditionRow] = []
@@ -219,7 +221,7 @@ class ConditionList(QWidget):
         self._rows_layout = QVBoxLayout()
         self._rows_layout.setContentsMargins(0, 0, 0, 0)
         top = QHBoxLayout()
-        top.addWidget(QLabel("When"))
+        top.addWidget(QLabel(lead))
         top.addWidget(self.joiner_combo)
         top.addStretch(1)
         top.addWidget(self.add_button)
@@ -282,13 +284,13 @@ class RuleDialog(QDialog):
             "is flagged under 'Consistency rule broken'. Rules belong to the questionnaire, "
             "so they check later waves too."
         )
-        self.when_list = ConditionList(self.codebook, first_row=True)
+        self.when_list = ConditionList(self.codebook, True, "If")
         self.when_list.setObjectName("whenConditions")
-        self.then_list = ConditionList(self.codebook, first_row=True)
+        self.then_list = ConditionList(self.codebook, True, "Then")
         self.then_list.setObjectName("thenConditions")
-        when_box = QGroupBox("If (leave the variable unchosen for a rule that always applies)")
+        when_box = QGroupBox("Condition — leave it unchosen for a rule about everyone")
         QVBoxLayout(when_box).addWidget(self.when_list)
-        then_box = QGroupBox("Then")
+        then_box = QGroupBox("What must then hold")
         QVBoxLayout(then_box).addWidget(self.then_list)
 
         self.text_edit = QLineEdit()

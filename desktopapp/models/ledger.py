@@ -22,8 +22,8 @@ COLUMNS = (
     ("variables", "Variables"),
     ("old", "Was"),
     ("new", "Now"),
-    ("check", "Check"),
     ("reason", "Reason"),
+    ("check", "Check"),
     ("created", "When"),
     ("author", "By"),
 )

@@ -337,8 +337,10 @@ class CleaningView(QWidget):
         h = self.row_table.horizontalHeader()
         h.setSectionResizeMode(0, QHeaderView.ResizeMode.ResizeToContents)
         h.setSectionResizeMode(1, QHeaderView.ResizeMode.Stretch)
-        h.setSectionResizeMode(2, QHeaderView.ResizeMode.ResizeToContents)
-        h.setSectionResizeMode(3, QHeaderView.ResizeMode.ResizeToContents)
+        h.setSectionResizeMode(2, QHeaderView.ResizeMode.Interactive)
+        h.setSectionResizeMode(3, QHeaderView.ResizeMode.Interactive)
+        h.resizeSection(2, 190)
+        h.resizeSection(3, 150)
         self.row_table.verticalHeader().setDefaultSectionSize(self.fontMetrics().height() + 8)
 
         accept_row = QHBoxLayout()
@@ -801,6 +803,8 @@ class CleaningView(QWidget):
             items[0].setToolTip(cell.question)
             tip = f"{cell.variable}: {cell.question}\nAs imported: {cell.raw or '(blank)'}"
             items[1].setToolTip(tip)
+            items[2].setToolTip(items[2].text())
+            items[3].setToolTip(items[3].text())
             here = cell.variable in flag.variables
             for c, item in enumerate(items):
                 if cell.flagged and here:
@@ -1019,6 +1023,29 @@ class CleaningView(QWidget):
         if pick is not None:
             self.select_flag(pick)
             self.reason_edit.setText("Impossible value; the paper form could not be found")
+
+    def screenshot_states(self) -> list[tuple[str, Any]]:
+        """A batch selection, then the list after a few decisions (screenshots run on a
+        temporary copy of the demo, so these decisions touch nothing of the user's)."""
+
+        def batch() -> None:
+            speeders = [f for f in self.model.shown_flags() if f.check == "speeder"]
+            self.select_flags(speeders)
+            self.batch_reason_edit.setText("Under a quarter of the median time, many blanks")
+
+        def decided() -> None:
+            zero = next((f for f in self.model.shown_flags() if f.check == "wandering_zero"), None)
+            if zero is not None:
+                self.select_flag(zero)
+                self.reason_edit.setText("The paper form shows the smaller value")
+                self.accept_suggestion()
+            outliers = [f for f in self.model.shown_flags() if f.check == "outlier"]
+            if outliers:
+                self.select_flags(outliers)
+                self.decide_selected("keep", reason="Checked against the source: real values")
+            self.prepare_screenshot()
+
+        return [("flags-batch", batch), ("flags-decided", decided)]
 
     def shutdown(self) -> None:
         self.flag_tree.selectionModel().blockSignals(True)

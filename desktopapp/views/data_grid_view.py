@@ -12,7 +12,7 @@ from __future__ import annotations
 from typing import Any
 
 from PySide6.QtCore import QModelIndex, QPersistentModelIndex, QPointF, Qt
-from PySide6.QtGui import QKeySequence, QPainter, QPolygonF, QShortcut
+from PySide6.QtGui import QColor, QKeySequence, QPainter, QPolygonF, QShortcut
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QHBoxLayout,
@@ -71,15 +71,39 @@ class CornerMarkDelegate(QStyledItemDelegate):
         painter.restore()
 
 
-def swatch(colour: Any, text: str, mark: bool = False) -> QLabel:
-    """A legend entry: a small coloured box and its meaning."""
-    corner = f"border-top: 4px solid {EDITED_MARK.name()};" if mark else "border: 1px solid #bbb;"
-    label = QLabel(
-        f"<span style='background:{colour.name()}; {corner}'>&nbsp;&nbsp;&nbsp;&nbsp;</span>"
-        f"&nbsp;{text}"
-    )
-    label.setTextFormat(Qt.TextFormat.RichText)
-    return label
+def swatch(colour: Any, text: str, mark: bool = False, italic: bool = False) -> QWidget:
+    """A legend entry: a small cell drawn as the grid draws it, and its meaning."""
+    from PySide6.QtGui import QColor, QPixmap
+
+    w, h = 30, 16
+    pixmap = QPixmap(w, h)
+    pixmap.fill(Qt.GlobalColor.transparent)
+    p = QPainter(pixmap)
+    p.setRenderHint(QPainter.RenderHint.Antialiasing)
+    p.setPen(QColor("#9A9A9A"))
+    p.setBrush(colour)
+    p.drawRect(0, 0, w - 1, h - 1)
+    if mark:
+        p.setPen(Qt.PenStyle.NoPen)
+        p.setBrush(EDITED_MARK)
+        p.drawPolygon(QPolygonF([QPointF(w - 8, 0), QPointF(w, 0), QPointF(w, 8)]))
+    if italic:
+        font = p.font()
+        font.setItalic(True)
+        font.setPixelSize(10)
+        p.setFont(font)
+        p.setPen(MUTED_TEXT)
+        p.drawText(pixmap.rect(), Qt.AlignmentFlag.AlignCenter, "why")
+    p.end()
+    box = QWidget()
+    row = QHBoxLayout(box)
+    row.setContentsMargins(0, 0, 0, 0)
+    row.setSpacing(6)
+    icon = QLabel()
+    icon.setPixmap(pixmap)
+    row.addWidget(icon)
+    row.addWidget(QLabel(text))
+    return box
 
 
 class DataGridView(QWidget):
@@ -133,11 +157,9 @@ class DataGridView(QWidget):
         legend = QHBoxLayout()
         legend.setSpacing(16)
         legend.addWidget(
-            swatch(EDITED_BACKGROUND, "corrected (tooltip: original, new, reason)", True)
+            swatch(EDITED_BACKGROUND, "corrected (point at it: original, new value, reason)", True)
         )
-        muted = QLabel(f"<i style='color:{MUTED_TEXT.name()}'>declined</i>&nbsp; missing, with why")
-        muted.setTextFormat(Qt.TextFormat.RichText)
-        legend.addWidget(muted)
+        legend.addWidget(swatch(QColor("white"), "missing: the reason, in grey", italic=True))
         legend.addWidget(swatch(EXCLUDED_BACKGROUND, "respondent excluded from analyses"))
         legend.addStretch(1)
 
@@ -283,6 +305,12 @@ class DataGridView(QWidget):
         row, col = (after or cells)[0]
         self.find_note.setText("")
         self.go_to(row, self.model.names[col])
+
+    def prepare_screenshot(self) -> None:
+        """Show the first corrected cell, if any decision changed one."""
+        if self.model is not None and self.model.working.edits:
+            self._on_next_edit_button_clicked()
+            self.table.selectionModel().clearSelection()  # show the cell's own colours
 
     # ------------------------------------------------------------------ recode
     def _on_table_context_menu_requested(self, pos: Any) -> None:

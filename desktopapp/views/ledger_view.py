@@ -116,17 +116,17 @@ class LedgerView(QWidget):
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         header.setStretchLastSection(False)
         widths = {
-            "id": 54,
-            "state": 80,
-            "action": 150,
-            "respondent": 150,
-            "variables": 150,
-            "old": 110,
+            "id": 48,
+            "state": 72,
+            "action": 140,
+            "respondent": 140,
+            "variables": 130,
+            "old": 80,
             "new": 110,
-            "check": 170,
-            "reason": 280,
-            "created": 140,
-            "author": 110,
+            "reason": 320,
+            "check": 160,
+            "created": 130,
+            "author": 100,
         }
         for i, (key, _) in enumerate(COLUMNS):
             header.resizeSection(i, widths.get(key, 120))
