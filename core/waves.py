@@ -190,7 +190,7 @@ def compare_waves(project: Project, spec: TableSpec, waves: Sequence[str]) -> Ta
     Returns a :class:`TableResult` with ``table_type`` "waves" and data
     ``{"waves", "levels", "counts", "percents", "change_pp", "bases", "min_cell"}``.
     """
-    from core.tables.build import _compute, table_kind
+    from core.tables.build import table_kind
 
     if spec.by:
         raise TableError(
@@ -214,7 +214,7 @@ def compare_waves(project: Project, spec: TableSpec, waves: Sequence[str]) -> Ta
             raise TableError(f"{var.name} was not asked in wave {wave.label}: nothing to compare.")
     k = spec.min_cell if spec.min_cell is not None else int(project.settings().get("min_cell", 5))
     plain = spec.with_changes(compare_waves=(), min_cell=0, by=(), chart=None)
-    per_wave = [_compute(project, plain.with_changes(wave=w.label), w) for w in found]
+    per_wave = [_wave_table(project, plain.with_changes(wave=w.label), w) for w in found]
     levels = list(var.levels)
     counts = np.array(
         [[int(r.data["counts"].get(lv) or 0) for r in per_wave] for lv in levels], dtype=float
@@ -314,6 +314,23 @@ def compare_waves(project: Project, spec: TableSpec, waves: Sequence[str]) -> Ta
         wave=", ".join(labels),
         instrument=instrument,
     )
+
+
+def _wave_table(project: Project, spec: TableSpec, wave: Wave) -> TableResult:
+    """One wave's own table of the question (unsuppressed: suppression is applied across
+    the comparison), with its missing-data, treatment and cleaning notes."""
+    from core.tables.build import table_for_working, table_variables
+    from core.tables.captions import cleaning_notes
+
+    working = working_data(project, wave.id)
+    settings = {
+        **project.settings(),
+        "wave": wave.label,
+        "instrument": project.instrument(wave.instrument_id).name,
+        "population": bool(wave.settings.get("population", True)),
+        "cleaning_notes": cleaning_notes(project, wave.id, table_variables(working.codebook, spec)),
+    }
+    return table_for_working(working, spec, settings)
 
 
 def _count_cell(n: float, sup: Suppression, i: int, j: int, k: int) -> Cell:
