@@ -1109,8 +1109,8 @@ class TabulationView(QWidget):
     def _apply_split(self) -> None:
         """Give the table the width it needs, as long as the chart keeps a readable size."""
         total = self.result_splitter.width() - self.result_splitter.handleWidth()
-        if self._splitter_moved or not self._table_ideal or total <= 0:
-            return
+        if self._splitter_moved or not self._table_ideal or total < CHART_MIN_WIDTH + 200:
+            return  # not laid out yet: a split now would squeeze the chart to nothing
         table_w = max(min(self._table_ideal, total - CHART_MIN_WIDTH), total // 3)
         self.result_splitter.setSizes([table_w, total - table_w])
 
