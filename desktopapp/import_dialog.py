@@ -745,8 +745,8 @@ class ImportDialog(QDialog):
 
         inst = self._existing_instrument()
         table = self._preview_table
-        if inst is None or table is None:
-            return False
+        if inst is None or table is None or any(w.label == wave for w in self._target_waves()):
+            return False  # nothing to match, or the import refuses the label at once
 
         def confirmed(column_map: dict[str, str], level_maps: dict[str, dict[str, str]]) -> None:
             self.wave_choices = (column_map, level_maps)
