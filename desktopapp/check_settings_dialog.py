@@ -187,11 +187,14 @@ class CheckSettingsDialog(QDialog):
         self.error_label.setText("")
         self.runner.run(
             lambda _p: save_settings(project, chosen),
-            on_success=lambda _c: self.accept(),
+            on_success=self._on_done,
             on_failure=self._on_failed,
             writes=True,
             label="Saving the check settings…",
         )
+
+    def _on_done(self, _changes: Any) -> None:
+        self.accept()
 
     def _on_failed(self, exc: BaseException) -> None:
         text, details = message_for(exc)

@@ -451,15 +451,15 @@ class RuleDialog(QDialog):
         project = self.project
         self.runner.run(
             lambda _p: remove_rule(project, rule_id),
-            on_success=lambda _c: self._after_remove(rule_id),
+            on_success=self._after_remove,
             on_failure=self._on_write_failed,
             writes=True,
             label="Removing the rule…",
         )
 
-    def _after_remove(self, rule_id: int) -> None:
+    def _after_remove(self, _changes: Any) -> None:
         self.refresh_rules()
-        self._say(f"Rule {rule_id} removed (Edit ▸ Undo brings it back).", None)
+        self._say("Rule removed (Edit ▸ Undo brings it back).", None)
 
     def _on_write_failed(self, exc: BaseException) -> None:
         text, details = message_for(exc)
@@ -628,11 +628,14 @@ class RecodeDialog(QDialog):
         self.error_label.setText("")
         self.runner.run(
             lambda _p: recode_all(project, wave_id, names, old, new, reason),
-            on_success=lambda _r: self.accept(),
+            on_success=self._on_done,
             on_failure=self._on_failed,
             writes=True,
             label="Recoding…",
         )
+
+    def _on_done(self, _result: Any) -> None:
+        self.accept()
 
     def _on_failed(self, exc: BaseException) -> None:
         text, details = message_for(exc)

@@ -58,6 +58,7 @@ class FlagTreeModel(QAbstractItemModel):
         self._all: list[Flag] = []
         self._groups: list[FlagGroup] = []  # every flag, for the counts
         self._shown: list[tuple[FlagGroup, list[Flag]]] = []
+        self._where: dict[tuple[Any, ...], tuple[int, int]] = {}
         self.show_decided = True
         self.text = ""
         self._bold = QFont()
@@ -87,6 +88,8 @@ class FlagTreeModel(QAbstractItemModel):
             if keep:
                 shown.append((group, keep))
         self._shown = shown
+        # Where each listed flag sits, so selecting thousands of flags stays linear.
+        self._where = {f.key: (g, r) for g, (_, fs) in enumerate(shown) for r, f in enumerate(fs)}
 
     def _passes(self, flag: Flag) -> bool:
         if not self.show_decided and flag.decided_by is not None:
@@ -109,11 +112,10 @@ class FlagTreeModel(QAbstractItemModel):
 
     def index_of(self, key: tuple[Any, ...]) -> QModelIndex:
         """The row of the flag with this :attr:`Flag.key`, or an invalid index."""
-        for g, (_, fs) in enumerate(self._shown):
-            for r, f in enumerate(fs):
-                if f.key == key:
-                    return self.createIndex(r, 0, g)
-        return QModelIndex()
+        where = self._where.get(key)
+        if where is None:
+            return QModelIndex()
+        return self.createIndex(where[1], 0, where[0])
 
     def group_index(self, check: str) -> QModelIndex:
         for g, (group, _) in enumerate(self._shown):

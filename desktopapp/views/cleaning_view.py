@@ -167,6 +167,7 @@ class CleaningView(QWidget):
         self._collapsed: set[str] = set()
         self._dialogs: list[Any] = []
         self._building = False
+        self._requested: Changes | None = None
 
         # ---- header
         self.title = title_label(f"Checks and flags — wave {wave.label}")
@@ -451,9 +452,11 @@ class CleaningView(QWidget):
 
     def _request(self, work: Any, merged: Changes | None) -> None:
         self.summary_label.setText(self.summary_label.text() or "Running the checks…")
+        # Callbacks are bound methods, so a result arriving after the view closed is dropped.
+        self._requested = merged
         self._context.runner.run(
             work,
-            on_success=lambda run: self._show_run(run, merged),
+            on_success=self._on_run_loaded,
             on_failure=self._on_load_failed,
             key=f"flags:{id(self)}",
             show_progress=False,
@@ -484,6 +487,9 @@ class CleaningView(QWidget):
             self.reload()
             return
         self._request(lambda _p: refresh_flags(project, wave_id, previous, merged), merged)
+
+    def _on_run_loaded(self, run: Any) -> None:
+        self._show_run(run, self._requested)
 
     def _show_run(self, run: Any, merged: Changes | None) -> None:
         if merged is not None and self._pending is merged:
@@ -758,15 +764,18 @@ class CleaningView(QWidget):
             from core.working import working_data
 
             working = working_data(project, wave_id)
-            return respondent_row(working, flag.row, flags), flag.row in working.excluded
+            return flag, respondent_row(working, flag.row, flags), flag.row in working.excluded
 
         self._context.runner.run(
             work,
-            on_success=lambda result: self._show_row(flag, *result),
+            on_success=self._on_row_loaded,
             on_failure=self._on_load_failed,
             key=f"flag-row:{id(self)}",
             show_progress=False,
         )
+
+    def _on_row_loaded(self, result: tuple[Flag, list[Any], bool]) -> None:
+        self._show_row(*result)
 
     def _show_row(self, flag: Flag, cells: list[Any], excluded: bool) -> None:
         from core.checks.flag import CHECK_LABELS
@@ -891,7 +900,7 @@ class CleaningView(QWidget):
 
         self._context.runner.run(
             work,
-            on_failure=lambda exc: self._on_decision_failed(exc, self.error_label),
+            on_failure=self._on_single_failed,
             writes=True,
             label="Recording the decision…",
         )
@@ -936,10 +945,16 @@ class CleaningView(QWidget):
 
         self._context.runner.run(
             work,
-            on_failure=lambda exc: self._on_decision_failed(exc, self.batch_error),
+            on_failure=self._on_batch_failed,
             writes=True,
             label=f"Recording {len(flags)} decisions…",
         )
+
+    def _on_single_failed(self, exc: BaseException) -> None:
+        self._on_decision_failed(exc, self.error_label)
+
+    def _on_batch_failed(self, exc: BaseException) -> None:
+        self._on_decision_failed(exc, self.batch_error)
 
     def _on_decision_failed(self, exc: BaseException, where: QLabel) -> None:
         self._advance_keys = None

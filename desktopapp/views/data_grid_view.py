@@ -118,7 +118,8 @@ class DataGridView(QWidget):
         self.instrument_id: int = node.instrument_id  # type: ignore[assignment]
         wave = context.project.wave(self.wave_id)
         self.model: DataGridModel | None = None
-        self._edit_cursor = -1
+        self._repaint: frozenset[str] | None = None
+        self._repaint_all = False
 
         self.title = title_label(f"Data — wave {wave.label}")
         self.summary_label = muted_label("")
@@ -197,6 +198,11 @@ class DataGridView(QWidget):
     def reload(self, variables: frozenset[str] | None = None) -> None:
         """Read the working data on a worker; repaint ``variables`` only (None: all)."""
         project, wave_id = self.project, self.wave_id
+        # A reload overtaken by a newer one is dropped: the newer one repaints both.
+        if self.model is None or variables is None:
+            self._repaint_all = True
+        else:
+            self._repaint = variables if self._repaint is None else self._repaint | variables
 
         def work(_progress: Any) -> Any:
             from core.working import working_data
@@ -205,11 +211,16 @@ class DataGridView(QWidget):
 
         self._context.runner.run(
             work,
-            on_success=lambda working: self._show(working, variables),
+            on_success=self._on_working_loaded,
             on_failure=self._on_load_failed,
             key=f"data-grid:{id(self)}",
             show_progress=False,
         )
+
+    def _on_working_loaded(self, working: Any) -> None:
+        variables = None if self._repaint_all else (self._repaint or frozenset())
+        self._repaint, self._repaint_all = None, False
+        self._show(working, variables)
 
     def _show(self, working: Any, variables: frozenset[str] | None) -> None:
         if self.model is None:

@@ -229,3 +229,40 @@ def test_batch_suggestions_refuse_flags_without_one(window, view):
     view.decide_selected("suggested", reason="reviewed")
     assert "no single suggestion" in view.batch_error.text()
     assert ledger_list(window.project, view.wave_id) == []
+
+
+def test_decisions_with_background_work(qtbot, project_path):
+    """With the real background runner: the decision is written on the writer thread, the
+    flags refresh on a reader, and leaving the view while work runs loses nothing."""
+    from desktopapp.main_window import MainWindow
+
+    win = MainWindow(synchronous=False)
+    qtbot.addWidget(win)
+    win.show()
+    try:
+        assert win.open_project(project_path)
+        wave_id = _wave_id(win)
+        assert win.show_node(NodeType.FLAGS, wave_id=wave_id)
+        view = win.view
+        qtbot.waitUntil(lambda: view.run is not None, timeout=10_000)
+        view.select_flag(_flag(view, "range", "age", 7))
+        view.reason_edit.setText("Impossible age")
+        view.decide(Action.SET_MISSING)
+        qtbot.waitUntil(
+            lambda: not any(f.check == "range" and f.row == 311 for f in view.model.flags),
+            timeout=10_000,
+        )
+        assert view.current_flag is not None and view.current_flag.decided_by is None
+        view.reason_edit.setText("Checked")
+        view.decide(Action.KEEP)
+        assert win.show_node(NodeType.DATA, wave_id=wave_id)  # while the write runs
+        grid = win.view
+        qtbot.waitUntil(lambda: grid.model is not None, timeout=10_000)
+        qtbot.waitUntil(lambda: len(ledger_list(win.project, wave_id)) == 2, timeout=10_000)
+        model = grid.model
+        qtbot.waitUntil(
+            lambda: model.data(model.index(311, model.column_of("age")), EDITED_ROLE) is True,
+            timeout=10_000,
+        )
+    finally:
+        win.close_project()

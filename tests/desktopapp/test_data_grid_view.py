@@ -177,3 +177,19 @@ def test_grid_model_at_100k_rows_reads_lazily(tmp_path):
             f"100k rows: model built in {built * 1000:.2f} ms, "
             f"first cells {first_cells * 1000:.1f} ms"
         )
+
+
+def test_a_decision_repaints_only_its_column(window, view):
+    model = view.model
+    painted: list[tuple[int, int, int, int]] = []
+    model.dataChanged.connect(
+        lambda a, b, _roles=(): painted.append((a.row(), a.column(), b.row(), b.column()))
+    )
+    resets: list[int] = []
+    model.modelReset.connect(lambda: resets.append(1))
+    edit_cell(window.project, view.wave_id, 311, "age", "Impossible age", missing=True)
+    col = model.column_of("age")
+    assert painted == [(0, col, model.rowCount() - 1, col)]
+    assert resets == []
+    assert "age" not in model.cached_columns()  # dropped, read again when next shown
+    assert model.data(model.index(311, col)) == "set missing"
