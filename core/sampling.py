@@ -359,12 +359,17 @@ def set_wave_design(
 
 def intervals_note(project: Project, wave_id: int, confidence: float = DEFAULT_CONFIDENCE) -> str:
     """The caption sentence about margins of error for tables of this wave."""
-    design = wave_design(project, wave_id)
+    return design_note(wave_design(project, wave_id), confidence)
+
+
+def design_note(design: WaveDesign, confidence: float = DEFAULT_CONFIDENCE) -> str:
+    """What margins of error mean for a wave of this design, or why there are none."""
     if design.whole_population:
         return (
             "No margins of error are shown: this wave was sent to the whole population, so "
-            "its percentages describe the respondents themselves rather than estimate a "
-            "larger group."
+            "its percentages have no sampling error; they describe the respondents themselves "
+            "rather than estimate a larger group. Differences are real for this population, "
+            "though still not proof of what caused them."
         )
     text = (
         f"Ranges are {_pct(confidence)} Wilson score intervals, treating respondents as a "
@@ -383,20 +388,21 @@ def result_intervals(
 ) -> dict[str, Any]:
     """Wilson intervals (in percent) for every shown percentage of a table result.
 
-    Returns ``{"intervals": ..., "note": str}``. ``intervals`` mirrors ``data["percents"]``:
-    ``{level: [low, high]}`` for a frequency or choose-all table, ``{group: {level: [low,
-    high]}}`` for a cross-tabulation, with None where the count or its base is hidden. For a
-    whole-population wave ``intervals`` is empty and the note says why.
+    Returns ``{"intervals": ..., "note": str, "widest": (keys, Interval) | None}``.
+    ``intervals`` mirrors ``data["percents"]``: ``{level: [low, high]}`` for a frequency or
+    choose-all table, ``{group: {level: [low, high]}}`` for a cross-tabulation, with None where
+    the count or its base is hidden. ``widest`` names the widest interval (its keys into
+    ``intervals``), for captions. For a whole-population wave ``intervals`` is empty and the
+    note says why.
     """
     data = result.data
+    note = design_note(design, confidence)
     if design.whole_population:
-        return {
-            "intervals": {},
-            "note": "No margins of error: this wave was sent to the whole population.",
-        }
+        return {"intervals": {}, "note": note, "widest": None}
     n_pop = design.population_size
+    widest: list[Any] = [None]
 
-    def one(x: Any, base: Any) -> list[float] | None:
+    def one(keys: tuple[str, ...], x: Any, base: Any) -> list[float] | None:
         if x is None or not base or x > base:
             return None
         if n_pop is not None and base > n_pop:
@@ -405,6 +411,8 @@ def result_intervals(
                 "wave; correct the population size."
             )
         iv = wilson_interval(x, int(base), confidence, n_pop)
+        if widest[0] is None or iv.high - iv.low > widest[0][1].high - widest[0][1].low:
+            widest[0] = (keys, iv)
         return [100 * iv.low, 100 * iv.high]
 
     counts = data.get("counts") or {}
@@ -420,21 +428,12 @@ def result_intervals(
                     base = (data.get("level_totals") or {}).get(lv)
                 else:
                     base = data.get("total")
-                row[lv] = one(x, base)
+                row[lv] = one((g, lv), x, base)
             out[g] = row
     else:
         base = data.get("base") if data.get("base") is not None else result.n_valid
-        out = {lv: one(x, base) for lv, x in counts.items() if not isinstance(x, dict)}
-    note = (
-        f"Ranges are {_pct(confidence)} Wilson score intervals"
-        + (
-            f" with the finite population correction (population {n_pop:,})"
-            if n_pop is not None
-            else ""
-        )
-        + "; they assume respondents are like a random sample."
-    )
-    return {"intervals": out, "note": note}
+        out = {lv: one((lv,), x, base) for lv, x in counts.items() if not isinstance(x, dict)}
+    return {"intervals": out, "note": note, "widest": widest[0]}
 
 
 def _pct(share: float) -> str:

@@ -124,6 +124,11 @@ def add_table_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--sort", choices=SORTS, help="order answers as asked or by frequency")
     p.add_argument("--tests", action="store_true", help="add a chi-square test (samples only)")
     p.add_argument(
+        "--intervals",
+        action="store_true",
+        help="add margins of error to the percentages (waves marked as a sample)",
+    )
+    p.add_argument(
         "--show-mean",
         action="store_true",
         help="add the mean of codes to a rating scale (treats answers as equally spaced)",
@@ -141,6 +146,7 @@ def spec_from_args(args: argparse.Namespace) -> TableSpec:
         "tests": args.tests,
         "show_mean": args.show_mean,
         "pct_of_all": args.pct_of_all,
+        "intervals": args.intervals,
     }
     if args.points:
         try:

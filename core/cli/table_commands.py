@@ -92,6 +92,12 @@ def register(sub: argparse._SubParsersAction) -> None:
         help="add a chi-square test and Cramér's V (for samples only)",
     )
     p.add_argument(
+        "--intervals",
+        action="store_true",
+        help="add 95%% margins of error (Wilson score intervals) to the percentages, for a "
+        "wave marked as a sample; a whole-population wave gets a note saying why there are none",
+    )
+    p.add_argument(
         "--show-mean",
         action="store_true",
         help="add the mean of codes to a rating scale (treats answers as equally spaced)",
@@ -138,6 +144,7 @@ def _table(args: argparse.Namespace) -> int:
         borda_points=points,
         tests=args.tests,
         pct_of_all=args.pct_of_all,
+        intervals=args.intervals,
         compare_waves=_split(args.compare_waves),
     )
     with opened(args.project) as project:

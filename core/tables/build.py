@@ -16,12 +16,15 @@ from core.codebook import Codebook, Variable
 from core.errors import ProjectError, TableError
 from core.kinds import Kind
 from core.project import Project
+from core.response_rates import caption_rate
+from core.sampling import WaveDesign, wave_design
 from core.tables.captions import (
     GROUP_CAUTION,
     cleaning_notes,
     source_note,
 )
 from core.tables.context import Context, by_title
+from core.tables.intervals import add_intervals
 from core.tables.likert import NEGATIVE_NOTE
 from core.tables.result import TableResult
 from core.tables.spec import TableSpec
@@ -61,11 +64,14 @@ def _compute(project: Project, spec: TableSpec, wave: Any) -> TableResult:
     working = working_data(project, wave.id)
     instrument = project.instrument(wave.instrument_id).name
     variables = table_variables(working.codebook, spec)
+    design = wave_design(project, wave.id)
     settings = {
         **project.settings(),
         "wave": wave.label,
         "instrument": instrument,
-        "population": bool(wave.settings.get("population", True)),
+        "population": design.whole_population,
+        "population_size": design.population_size,
+        "response_rate": caption_rate(project, wave.id),
         "cleaning_notes": cleaning_notes(project, wave.id, variables),
     }
     return table_for_working(working, spec, settings)
@@ -128,7 +134,9 @@ def table_for_working(
     """The table for ``spec`` from given working data (pure: nothing is read or written).
 
     ``settings`` holds the project settings (``min_cell``, ``unstable_base``) and optionally
-    ``wave``, ``instrument``, ``population`` (bool) and ``cleaning_notes`` (sentences).
+    ``wave``, ``instrument``, ``population`` (bool: the wave went to everyone),
+    ``population_size`` (N, for margins of error of a sample), ``response_rate`` (caption
+    text of the wave's chosen rate) and ``cleaning_notes`` (sentences).
     """
     settings = dict(settings or {})
     codebook = working.codebook
@@ -177,6 +185,11 @@ def table_for_working(
         notes.treatment = treatment_notes(treated, codebook) + notes.treatment
     notes.cleaning = list(settings.get("cleaning_notes") or [])
     notes.source.append(source_note(ctx.instrument, ctx.wave))
+    if settings.get("response_rate"):
+        notes.source.append(f"{settings['response_rate']}.")
+    if spec.intervals:
+        design = WaveDesign(ctx.population, settings.get("population_size"))
+        notes.method += add_intervals(result, design)
     if spec.by and GROUP_CAUTION not in notes.cautions:
         notes.cautions.append(GROUP_CAUTION)
     result.notes = notes.as_list()
