@@ -325,3 +325,48 @@ def test_a_codebook_change_recomputes_the_table(window, view):
     assert view.title_label.text() == "Which trade are you training for?"
     window.undo.undo_action.trigger()
     assert view.title_label.text() == "Which trade track are you in?"
+
+
+def test_test_for_sampled_data_matches_scipy(window, view):
+    from scipy.stats import chi2_contingency
+
+    from .demo_window import source_frame
+
+    view.select_variable("track")
+    view.set_breakdown("cohort")
+    assert view.tests_check.isVisible()
+    view.tests_check.setChecked(True)
+    assert view.current_spec().tests is True
+    assert "sample" in view.option_caution.text()
+    # Reference: scipy's Pearson chi-square (no continuity correction) on the workbook's
+    # track-by-cohort counts.
+    frame = source_frame(window).dropna(subset=["track", "cohort"])
+    table = pd.crosstab(frame["cohort"], frame["track"])
+    chi2, p, dof, _ = chi2_contingency(table.to_numpy(), correction=False)
+    note = next(n for n in view.notes_label.text().splitlines() if "Chi-square" in n)
+    assert f"X² = {chi2:.2f}, df = {dof}, p = {p:.3f}" in note
+
+
+def test_a_question_that_stops_being_tabulable_leaves_a_plain_message(window, view):
+    from dataclasses import replace
+
+    from core.kinds import Kind
+
+    assert not view.select_variable("best_part")  # open comments are not listed
+    assert view.select_variable("track")
+    project = window.project
+    inst = project.instruments()[0]
+    codebook = project.codebook(inst.id)
+    as_text = replace(codebook["track"], kind=Kind.TEXT, levels=())
+    project.set_codebook(inst.id, codebook.with_variable(as_text), label="Track as text")
+    try:
+        # Open comments have no table: the question leaves the list and the view says so
+        # in words, with nothing to copy or keep.
+        assert "track" not in [e.name for e in view._entries]
+        assert view.result() is None
+        assert view.status_label.text() == "Choose a question on the left."
+        assert not view.keep_button.isEnabled() and not view.copy_table_button.isEnabled()
+        assert not view.copy_table()
+    finally:
+        window.undo.undo_action.trigger()
+    assert "track" in [e.name for e in view._entries]
