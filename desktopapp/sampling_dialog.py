@@ -99,6 +99,8 @@ class SamplingDialog(QDialog):
         self.wave_label = wave.label
         self.n_rows = wave.n_rows
         self._filling = False
+        # False: compute and show, but store nothing (pictures of the dialog).
+        self.saving = True
         self.last_error = ""
         self.last_count: rr.CompletionCount | None = None
         self.sample_size_result: sampling.SampleSize | None = None
@@ -431,6 +433,8 @@ class SamplingDialog(QDialog):
         header.setSectionResizeMode(0, QHeaderView.ResizeMode.ResizeToContents)
         header.setSectionResizeMode(1, QHeaderView.ResizeMode.ResizeToContents)
         header.setSectionResizeMode(2, QHeaderView.ResizeMode.Stretch)
+        # Rows as tall as their wrapped text at the width the column ends up with.
+        header.sectionResized.connect(self._fit_rate_rows)
         for row, name in enumerate(rr.RATE_NAMES):
             formula, definition = rr.RATE_DEFINITIONS[name]
             self.rates_table.setItem(row, 0, QTableWidgetItem(name))
@@ -550,7 +554,7 @@ class SamplingDialog(QDialog):
         return whole, size
 
     def _on_design_changed(self, *_args: Any) -> None:
-        if self._filling:
+        if self._filling or not self.saving:
             return
         whole, size = self.design()
         stored = sampling.wave_design(self.project, self.wave_id)
@@ -712,7 +716,7 @@ class SamplingDialog(QDialog):
             item = self.rates_table.item(row, 1)
             item.setText("—" if rate.value is None else f"{100 * rate.value:.1f} %")
             item.setToolTip(rate.percent_text)
-        self.rates_table.resizeRowsToContents()
+        self._fit_rate_rows()
         name = self.caption_combo.currentData()
         chosen = rates[name]
         if total == 0:
@@ -725,8 +729,28 @@ class SamplingDialog(QDialog):
                 f"{name}): {chosen.percent_text}”."
             )
 
+    def _fit_rate_rows(self, *_args: Any) -> None:
+        """Each row as tall as its wrapped definition and formula at the column's width.
+
+        Measured here rather than by the table's own row sizing, which leaves the last line
+        of some wrapped cells cut off.
+        """
+        table = self.rates_table
+        width = table.columnWidth(2) - 12  # the cell's text margins
+        if width <= 0:
+            return
+        metrics = table.fontMetrics()
+        for row in range(table.rowCount()):
+            text = table.item(row, 2).text()
+            rect = metrics.boundingRect(0, 0, width, 10_000, int(Qt.TextFlag.TextWordWrap), text)
+            table.setRowHeight(row, rect.height() + 8)
+
+    def showEvent(self, event: Any) -> None:  # noqa: N802 - Qt override
+        super().showEvent(event)
+        self._fit_rate_rows()
+
     def _save_rates(self, *_args: Any) -> None:
-        if self._filling:
+        if self._filling or not self.saving:
             return
         d = self.dispositions()
         e = self.entered_e()

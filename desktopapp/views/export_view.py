@@ -380,7 +380,7 @@ class ExportView(QWidget):
         self.splitter.setStretchFactor(0, 0)
         self.splitter.setStretchFactor(1, 1)
         self.splitter.setStretchFactor(2, 0)
-        self.splitter.setSizes([330, 470, 330])
+        self.splitter.setSizes([320, 460, 350])
         self.splitter.setChildrenCollapsible(False)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
@@ -574,6 +574,8 @@ class ExportView(QWidget):
         self.files_list.setSelectionMode(QAbstractItemView.SelectionMode.NoSelection)
         self.files_list.setFocusPolicy(Qt.FocusPolicy.NoFocus)
         self.files_list.setMaximumHeight(150)
+        self.files_list.setTextElideMode(Qt.TextElideMode.ElideMiddle)
+        self.files_list.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         self.open_folder_button = QPushButton("Open folder")
         self.open_folder_button.setObjectName("openFolderButton")
         open_row = QHBoxLayout()
@@ -583,8 +585,8 @@ class ExportView(QWidget):
         db = QVBoxLayout(self._done_box)
         db.setContentsMargins(0, 0, 0, 0)
         db.addWidget(self.done_label)
-        db.addWidget(self.files_list)
         db.addLayout(open_row)
+        db.addWidget(self.files_list)
         self._done_box.hide()
 
         pane = QWidget()
@@ -1186,10 +1188,11 @@ class ExportView(QWidget):
             f"<b>Exported {len(self.last_files)} file"
             f"{'s' if len(self.last_files) != 1 else ''}</b> into {_escape(str(folder))}."
         )
-        if self.last_warnings:
+        # Warnings already listed under "Before you export" are not repeated.
+        news = [w for w in self.last_warnings if _prospective(w) not in self.shown_warnings]
+        if news:
             text += "".join(
-                f"<br><span style='color:{CAUTION_COLOUR}'>⚠ {_escape(w)}</span>"
-                for w in self.last_warnings
+                f"<br><span style='color:{CAUTION_COLOUR}'>⚠ {_escape(w)}</span>" for w in news
             )
         self.done_label.setText(text)
         self.files_list.clear()
@@ -1199,6 +1202,13 @@ class ExportView(QWidget):
         self.open_folder_button.setEnabled(True)
         self._done_box.show()
         self._message(f"Exported the report into {folder}.")
+        self._scroll_to_result()
+
+    def _scroll_to_result(self) -> None:
+        from PySide6.QtWidgets import QApplication
+
+        QApplication.processEvents()  # lay the result out before scrolling to it
+        self._export_scroll.ensureWidgetVisible(self.files_list, 0, 12)
 
     def _on_export_failed(self, exc: BaseException) -> None:
         from desktopapp.errors import message_for, show_error
@@ -1216,6 +1226,7 @@ class ExportView(QWidget):
         self.files_list.hide()
         self.open_folder_button.setEnabled(False)
         self._done_box.show()
+        self._scroll_to_result()
         self.last_message = text
 
     def _on_export_cancelled(self) -> None:
@@ -1227,6 +1238,54 @@ class ExportView(QWidget):
         self.open_folder_button.setEnabled(False)
         self._done_box.show()
         self._message("Export cancelled. Nothing was written.")
+        self._scroll_to_result()
+
+    # ------------------------------------------------------------------ screenshots
+    def prepare_screenshot(self) -> None:
+        """For ``python -m desktopapp.screenshots``: an outline worth a picture.
+
+        On an empty outline (the demo as built), keep what an evaluator typically keeps from
+        the tables view, with finding sentences worked out from the numbers themselves, and
+        one chart left without a finding so the warning shows.
+        """
+        from PySide6.QtWidgets import QApplication
+
+        from core.tables.spec import TableSpec
+
+        project = self.project
+        if not outline.items(project):
+            names: set[str] = set()
+            for inst in project.instruments():
+                codebook = project.codebook(inst.id)
+                names |= {v.name for v in codebook} | set(codebook.groups())
+            wanted = [
+                ("overall_satisfaction", "column", ()),
+                ("agree", "diverging", ()),
+                ("track", None, ("cohort",)),
+                ("age", "histogram", ()),
+            ]
+            for name, chart, by in wanted:
+                if name not in names:
+                    continue
+                spec = TableSpec(name, chart=chart, by=by)
+                try:
+                    finding = _example_finding(outline.compute(project, spec))
+                    outline.keep(project, spec, finding=finding if chart != "diverging" else "")
+                except Exception:  # noqa: BLE001 - a picture with fewer items is still fine
+                    continue
+            self._reload()
+            self.select_row(0)
+        QApplication.processEvents()  # lay the view out before drawing the preview
+        self.preview_chart.render_now()
+
+    def screenshot_states(self) -> list[tuple[str, Callable[[], None]]]:
+        """After an export: the files written and Open folder."""
+
+        def exported() -> None:
+            self.set_formats(["xlsx", "docx", "html", "csv"])
+            self.export()
+
+        return [("outline-exported", exported)]
 
     def open_folder(self) -> QUrl:
         url = QUrl.fromLocalFile(str(self.folder()))
@@ -1237,6 +1296,23 @@ class ExportView(QWidget):
         self.last_message = text
         if self._context.show_message is not None:
             self._context.show_message(text)
+
+
+def _prospective(warning: str) -> str:
+    # The core says "was left out" after an export and "will be left out" before one.
+    return warning.replace(" was left out: ", " will be left out: ")
+
+
+def _example_finding(result: TableResult) -> str:
+    """A finding sentence read off a result's own numbers (screenshots of the demo)."""
+    data = result.data
+    if data.get("agree_pct") is not None and not isinstance(data["agree_pct"], dict):
+        top = ", ".join(data.get("levels", [])[-2:]).lower().replace(", ", " or ")
+        return f"{data['agree_pct']:.0f} % of those who answered chose {top}."
+    stats = data.get("stats")
+    if isinstance(stats, dict) and stats.get("median") is not None:
+        return f"Half of those who answered gave {stats['median']:g} or less."
+    return ""
 
 
 def _preview_key(item: outline.OutlineItem) -> tuple[Any, ...]:

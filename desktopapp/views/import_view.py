@@ -276,6 +276,7 @@ class ImportView(QWidget):
             dialog = self.sampling_dialog(show=False)
             dialog.tabs.setCurrentIndex(tab)
             if name == "response-rates":
+                dialog.saving = False  # a picture: store nothing in the project
                 dialog.count_from_data()  # what the evaluator sees after pressing it
             dialogs.append((name, dialog))
         return dialogs
