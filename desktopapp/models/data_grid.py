@@ -221,7 +221,8 @@ class DataGridModel(QAbstractTableModel):
         code = int(self._column(name).reasons[row])
         return None if code < 0 else REASON_CATEGORIES[code]
 
-    def _raw(self, row: int, name: str) -> str | None:
+    def raw_text(self, row: int, name: str) -> str | None:
+        """The cell as imported (None when blank)."""
         raw = self._working.raw
         if raw is None or name not in raw.columns:
             return None
@@ -234,7 +235,7 @@ class DataGridModel(QAbstractTableModel):
         col = self._column(name)
         code = int(col.reasons[row])
         if code >= 0:
-            return missing_text(REASON_CATEGORIES[code], self._raw(row, name))
+            return missing_text(REASON_CATEGORIES[code], self.raw_text(row, name))
         value = col.values[row]
         if col.categories is not None:
             return col.categories[int(value)] if int(value) >= 0 else ""
@@ -248,7 +249,7 @@ class DataGridModel(QAbstractTableModel):
         else:
             reason = self._reason(row, name)
             if reason is not None:
-                raw = self._raw(row, name)
+                raw = self.raw_text(row, name)
                 words = REASON_WORDS.get(reason, reason).capitalize()
                 lines.append(f"Missing: {words}" + (f" (the source says {raw!r})" if raw else ""))
         if row in self._working.excluded:

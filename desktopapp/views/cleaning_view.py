@@ -816,7 +816,8 @@ class CleaningView(QWidget):
             items[3].setToolTip(items[3].text())
             here = cell.variable in flag.variables
             for c, item in enumerate(items):
-                if cell.flagged and here:
+                # Every flagged answer of the respondent is highlighted; this flag's in bold.
+                if cell.flagged:
                     item.setBackground(QBrush(FLAGGED_BACKGROUND))
                 elif cell.edited and c == 1:
                     item.setBackground(QBrush(EDITED_BACKGROUND))
@@ -835,12 +836,14 @@ class CleaningView(QWidget):
             )
 
     def row_texts(self) -> list[tuple[str, str, bool]]:
-        """(variable, answer, highlighted) of the respondent's row, for tests and readers."""
+        """(variable, answer, is this flag's cell) of the respondent's row: highlighted as
+        flagged and in bold."""
         out = []
         for r in range(self.row_table.rowCount()):
             name = self.row_table.item(r, 0).text()
             bg = self.row_table.item(r, 0).background().color()
-            out.append((name, self.row_table.item(r, 1).text(), bg == FLAGGED_BACKGROUND))
+            bold = self.row_table.item(r, 0).font().bold()
+            out.append((name, self.row_table.item(r, 1).text(), bg == FLAGGED_BACKGROUND and bold))
         return out
 
     # ------------------------------------------------------------------ decisions
@@ -900,6 +903,7 @@ class CleaningView(QWidget):
 
         self._context.runner.run(
             work,
+            on_success=self._on_decided,
             on_failure=self._on_single_failed,
             writes=True,
             label="Recording the decision…",
@@ -945,10 +949,17 @@ class CleaningView(QWidget):
 
         self._context.runner.run(
             work,
+            on_success=self._on_decided,
             on_failure=self._on_batch_failed,
             writes=True,
             label=f"Recording {len(flags)} decisions…",
         )
+
+    def _on_decided(self, result: tuple[list[int], Changes]) -> None:
+        ids = result[0]
+        if self._context.show_message is not None and ids:
+            what = "1 decision" if len(ids) == 1 else f"{len(ids)} decisions"
+            self._context.show_message(f"Recorded {what} in the ledger. Edit ▸ Undo takes it back.")
 
     def _on_single_failed(self, exc: BaseException) -> None:
         self._on_decision_failed(exc, self.error_label)

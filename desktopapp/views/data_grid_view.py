@@ -329,7 +329,7 @@ class DataGridView(QWidget):
         if self.model is None or not index.isValid():
             return
         name = self.model.names[index.column()]
-        raw = self.model._raw(index.row(), name)  # noqa: SLF001 - the cell as imported
+        raw = self.model.raw_text(index.row(), name)
         menu = QMenu(self)
         if raw:
             act = menu.addAction(f"Recode every “{raw}” like this cell…")
