@@ -17,6 +17,7 @@ core uses for 1920-pixel exports come out at ordinary screen-text sizes.
 from __future__ import annotations
 
 import sys
+import warnings
 from collections.abc import Callable
 from typing import Any
 
@@ -59,7 +60,14 @@ class _SettlingCanvas(FigureCanvasQTAgg):
         super().resizeEvent(QResizeEvent(self.size(), self.size()))
 
     def draw(self) -> None:
-        super().draw()
+        with warnings.catch_warnings():
+            # A canvas drawn before the layout has given it room (or squeezed very small)
+            # cannot fit the chart's labels; matplotlib warns on the console. The next draw
+            # at a real size lays the chart out properly, so the warning says nothing useful.
+            warnings.filterwarnings(
+                "ignore", message="constrained_layout not applied", category=UserWarning
+            )
+            super().draw()
         self._rendered = True
 
     def paintEvent(self, event: Any) -> None:  # noqa: N802 - Qt override
