@@ -366,6 +366,7 @@ class ExportView(QWidget):
         self.last_warnings: list[str] = []
         self.last_message = ""
         self.shown_warnings: list[str] = []
+        self._shut = False
         # Replaced in tests so no file manager or dialog opens.
         self.open_url: Callable[[QUrl], Any] = QDesktopServices.openUrl
         self.ask_folder: Callable[[str], str] = self._ask_folder
@@ -727,8 +728,8 @@ class ExportView(QWidget):
     def shutdown(self) -> None:
         # Keep a finding being typed when the evaluator moves to another node.
         self._on_finding_edit_finished()
-        if self._export_progress is not None:
-            self._export_progress.cancel()
+        # A running export carries on; its outcome goes to the status bar (see export()).
+        self._shut = True
         self.list.selectionModel().currentChanged.disconnect(self._on_list_current_changed)
 
     # ------------------------------------------------------------------ edits
@@ -1148,11 +1149,37 @@ class ExportView(QWidget):
         self.cancel_button.setEnabled(True)
         self._progress_box.show()
         self._save_folder(str(folder))
+        show_message = self._context.show_message or (lambda _text: None)
+
+        def gone() -> bool:
+            # The evaluator moved to another node while the export ran.
+            import shiboken6
+
+            return not shiboken6.isValid(self) or self._shut
+
+        def on_success(files: Any) -> None:
+            if gone():
+                show_message(f"Exported the report ({len(files)} files) into {folder}.")
+            else:
+                self._on_export_done(files)
+
+        def on_failure(exc: BaseException) -> None:
+            from desktopapp.errors import message_for
+
+            if gone():
+                show_message("The export did not finish. " + message_for(exc)[0])
+            else:
+                self._on_export_failed(exc)
+
+        def on_cancelled() -> None:
+            if not gone():
+                self._on_export_cancelled()
+
         job = self._context.runner.run(
             work,
-            on_success=self._on_export_done,
-            on_failure=self._on_export_failed,
-            on_cancelled=self._on_export_cancelled,
+            on_success=on_success,
+            on_failure=on_failure,
+            on_cancelled=on_cancelled,
             label="Exporting the report…",
             show_progress=False,
         )
