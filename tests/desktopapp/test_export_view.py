@@ -288,4 +288,3 @@ def test_empty_outline_says_how_to_keep_results(window, view):
     assert view.model.rowCount() == 0
     assert view.empty_label.isVisibleTo(view)
     assert not view.export_button.isEnabled()
-
