@@ -1097,7 +1097,7 @@ class TabulationView(QWidget):
         header = self.table.horizontalHeader()
         # A long row label (a battery item, a long answer) wraps rather than pushing the
         # numbers out of sight.
-        first = min(header.sectionSize(0), 300) if self.model.columnCount() else 0
+        first = min(header.sectionSize(0), 260) if self.model.columnCount() else 0
         if first:
             header.resizeSection(0, first)
         for col in range(1, self.model.columnCount()):
@@ -1111,7 +1111,11 @@ class TabulationView(QWidget):
         total = self.result_splitter.width() - self.result_splitter.handleWidth()
         if self._splitter_moved or not self._table_ideal or total < CHART_MIN_WIDTH + 200:
             return  # not laid out yet: a split now would squeeze the chart to nothing
-        table_w = max(min(self._table_ideal, total - CHART_MIN_WIDTH), total // 3)
+        if self._table_ideal <= total - CHART_MIN_WIDTH:
+            table_w = self._table_ideal
+        else:
+            # The table will scroll sideways anyway; the chart then shows the whole result.
+            table_w = int(total * 0.45)
         self.result_splitter.setSizes([table_w, total - table_w])
 
     def eventFilter(self, watched: Any, event: Any) -> bool:  # noqa: N802 - Qt override
