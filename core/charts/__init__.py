@@ -133,8 +133,13 @@ def resolve_chart_type(result: TableResult, chart_type: str | None = None) -> st
     return chart_type
 
 
-def draw(result: TableResult, figure: Figure, chart_type: str | None = None) -> None:
+def draw(
+    result: TableResult, figure: Figure, chart_type: str | None = None, *, caption: bool = True
+) -> None:
     """Draw ``result`` onto ``figure`` (cleared first) as ``chart_type`` or its default.
+
+    ``caption`` False leaves out the title, base line and notes, and gives the plot their
+    room: for pictures in documents that print the caption as text beside them.
 
     Raises
     ------
@@ -144,8 +149,9 @@ def draw(result: TableResult, figure: Figure, chart_type: str | None = None) -> 
     chart_type = resolve_chart_type(result, chart_type)
     sizes = style.prepare(figure)
     notes = _drawer(result, chart_type)(result, figure, sizes)
-    style.add_title(figure, result.title, sizes)
-    style.add_footer(figure, style.footer_lines(result.base, result.notes, notes), sizes)
+    if caption:
+        style.add_title(figure, result.title, sizes)
+        style.add_footer(figure, style.chart_footer(result, notes), sizes)
 
 
 def make_figure(
@@ -154,8 +160,13 @@ def make_figure(
     width_px: int = 1920,
     height_px: int = 1080,
     dpi: float = 150,
+    *,
+    caption: bool = True,
 ) -> Figure:
-    """A new figure of the given pixel size with ``result`` drawn on it (Agg canvas)."""
+    """A new figure of the given pixel size with ``result`` drawn on it (Agg canvas).
+
+    ``caption`` False: no title, base or notes (see :func:`draw`).
+    """
     if width_px < 100 or height_px < 100:
         raise PlaincountError("A chart must be at least 100 × 100 pixels.")
     if width_px > 20000 or height_px > 20000:
@@ -164,7 +175,7 @@ def make_figure(
         raise PlaincountError("The resolution must be between 30 and 1200 dots per inch.")
     figure = Figure(figsize=(width_px / dpi, height_px / dpi), dpi=dpi)
     FigureCanvasAgg(figure)
-    draw(result, figure, chart_type)
+    draw(result, figure, chart_type, caption=caption)
     return figure
 
 
@@ -175,8 +186,12 @@ def save_chart(
     width_px: int = 1920,
     height_px: int = 1080,
     dpi: float = 150,
+    *,
+    caption: bool = True,
 ) -> Path:
     """Write the chart as PNG or SVG, chosen by the file suffix; returns the path.
+
+    A saved chart stands alone, so it keeps its caption unless ``caption`` is False.
 
     Both formats come from the same figure, so a PNG for slides and an SVG for print show
     the same chart. The PNG is exactly ``width_px`` × ``height_px`` pixels.
@@ -189,7 +204,7 @@ def save_chart(
         )
     if not path.parent.exists():
         raise PlaincountError(f"The folder {path.parent} does not exist.")
-    figure = make_figure(result, chart_type, width_px, height_px, dpi)
+    figure = make_figure(result, chart_type, width_px, height_px, dpi, caption=caption)
     metadata = {"Title": result.title} if result.title else {}
     tmp = path.with_name(path.name + ".writing")
     try:

@@ -9,6 +9,7 @@ thumbnail and a full 1920 x 1080 slide keep the same proportions.
 
 from __future__ import annotations
 
+import re
 import textwrap
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
@@ -18,6 +19,7 @@ from matplotlib.container import BarContainer
 from matplotlib.figure import Figure
 
 from core.charts import palette
+from core.tables.result import TableResult
 
 # The reference figure: 1920 x 1080 pixels at 150 dpi is 12.8 x 7.2 inches.
 REFERENCE_WIDTH_IN = 12.8
@@ -31,6 +33,12 @@ SUPPRESSED_NOTE = (
     "confidentiality; they are not drawn."
 )
 HIDDEN_LABEL = "hidden"
+# Under a chart on a slide there is room for the base line and a few short notes; the full
+# set stays with the table and in reports.
+FOOTER_NOTES = 3
+SHORT_NOTE = 160  # characters: longer notes are cut to their first sentence or clause
+MORE_NOTES = "More notes with the table."
+_SENTENCE_END = re.compile(r"(?<=[.!?])\s+(?=[A-Z\"“(])")
 
 
 @dataclass(frozen=True)
@@ -109,6 +117,64 @@ def footer_lines(base: str, notes: Iterable[str], extra: Iterable[str] = ()) -> 
         if line and line not in lines:
             lines.append(line)
     return lines
+
+
+def chart_footer(result: TableResult, extra: Iterable[str] = ()) -> list[str]:
+    """The base line and the notes a chart has room for.
+
+    With up to :data:`FOOTER_NOTES` notes (the table's and the chart's own), all of them.
+    With more, the ones a reader of the chart needs most, in this order: what is hidden to
+    protect respondents, how missing answers were treated, the source; then the chart's
+    own reading notes. Each is cut to its first sentence when long, and a last line says
+    the rest are with the table (tables and reports always carry every note).
+    """
+    lines = footer_lines(result.base, result.notes, extra)
+    base, notes = (lines[:1], lines[1:]) if result.base else ([], lines)
+    if len(notes) <= FOOTER_NOTES:
+        return lines
+    own = set(extra) - set(result.notes)
+    kinds = result.note_kinds
+
+    def kind(note: str) -> str:
+        if note in own:
+            return "chart"
+        # Results built without note kinds still say their source the standard way.
+        return kinds.get(note) or ("source" if note.startswith("Source:") else "")
+
+    hidden = any(cell.suppressed for row in result.rows for cell in row)
+    wanted = [
+        [n for n in notes if n == SUPPRESSED_NOTE]
+        or [n for n in notes if hidden and kind(n) == "suppression"],
+        [n for n in notes if kind(n) == "treatment"] or [n for n in notes if kind(n) == "missing"],
+        [n for n in notes if kind(n) == "source"],
+        [n for n in notes if kind(n) == "chart"],
+    ]
+    picked: list[str] = []
+    for group in wanted:
+        for note in group:
+            if len(picked) < FOOTER_NOTES and note not in picked:
+                picked.append(note)
+                break
+    for note in notes:  # room left: the chart's reading notes, then the table's in order
+        if len(picked) < FOOTER_NOTES and note not in picked and kind(note) == "chart":
+            picked.append(note)
+    for note in notes:
+        if len(picked) < FOOTER_NOTES and note not in picked and kind(note) != "suppression":
+            picked.append(note)
+    return base + [short_note(n) for n in notes if n in picked] + [MORE_NOTES]
+
+
+def short_note(note: str, limit: int = SHORT_NOTE) -> str:
+    """A note cut to its first sentence, or first clause, when longer than ``limit``."""
+    if len(note) <= limit:
+        return note
+    first = _SENTENCE_END.split(note, maxsplit=1)[0]
+    if len(first) > limit and "; " in first[:limit]:
+        first = first[: first.index("; ", 0, limit)] + "."
+    if len(first) > limit:
+        cut = first[: limit - 1]
+        first = cut[: cut.rfind(" ")].rstrip(" ,;:") + "…" if " " in cut else cut + "…"
+    return first
 
 
 def add_footer(figure: Figure, lines: Sequence[str], sizes: Sizes) -> None:

@@ -93,9 +93,16 @@ def chart_images(
     height_px: int = 1080,
     dpi: int = 150,
     svg: bool = True,
+    caption: bool = True,
 ) -> tuple[bytes, bytes | None]:
-    """PNG and SVG bytes of one chart drawn once (exports need both; drawing is the cost)."""
-    figure = make_figure(result, chart_type, width_px=width_px, height_px=height_px, dpi=dpi)
+    """PNG and SVG bytes of one chart drawn once (exports need both; drawing is the cost).
+
+    ``caption`` False draws the chart without its title and notes, for documents that print
+    them as text.
+    """
+    figure = make_figure(
+        result, chart_type, width_px=width_px, height_px=height_px, dpi=dpi, caption=caption
+    )
     png = io.BytesIO()
     figure.savefig(png, format="png", dpi=dpi)
     if not svg:

@@ -74,10 +74,18 @@ class Entry:
     finding: str
     result: TableResult
     chart_type: str | None = None
-    png: bytes | None = None
+    png: bytes | None = None  # the chart with its caption, as a file of its own
     svg: bytes | None = None
     wave_id: int | None = None
     variables: list[str] = field(default_factory=list)
+    # The chart drawn without title and notes, for documents that print them as text
+    # (None: use ``png``).
+    picture: bytes | None = None
+
+    @property
+    def document_png(self) -> bytes | None:
+        """The chart image for a document or workbook, which carries the caption as text."""
+        return self.picture if self.picture is not None else self.png
 
     @property
     def stem(self) -> str:
@@ -162,9 +170,9 @@ def result_blocks(entry: Entry) -> list[Block]:
     blocks: list[Block] = [Heading(2, printable(entry.title))]
     if entry.finding:
         blocks.append(Paragraph(printable(entry.finding), "finding"))
-    if entry.png is not None:
+    if entry.document_png is not None:
         alt = entry.title + (f". {entry.finding}" if entry.finding else "")
-        blocks.append(Picture(entry.png, printable(alt)))
+        blocks.append(Picture(entry.document_png, printable(alt)))
     else:
         blocks.append(result_grid(entry.result))
     if entry.result.base:

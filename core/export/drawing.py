@@ -26,9 +26,27 @@ from typing import IO
 from core.export.clipboard import chart_images
 from core.export.content import Entry
 from core.progress import Progress
+from core.tables.result import TableResult
 
 PARALLEL_FROM = 6  # fewer charts are drawn here: starting a helper costs about a second
 MAX_WORKERS = 4
+
+
+def entry_images(
+    result: TableResult, chart_type: str | None, *, png: bool, svg: bool, picture: bool
+) -> tuple[bytes | None, bytes | None, bytes | None]:
+    """(PNG file, SVG file, document picture) of one chart; None for what is not asked.
+
+    The PNG and SVG files stand alone and keep the chart's title and notes; the picture
+    for documents and the workbook leaves them out, because the document prints them.
+    """
+    png_file = svg_file = plain = None
+    if png or svg:
+        png_file, svg_file = chart_images(result, chart_type, svg=svg)
+        png_file = png_file if png else None
+    if picture:
+        plain, _ = chart_images(result, chart_type, svg=False, caption=False)
+    return png_file, svg_file, plain
 
 
 class ChartDrawer:
@@ -40,13 +58,25 @@ class ChartDrawer:
         How many charts will be submitted (decides whether helpers are worth starting).
     svg
         Also make the SVG of each chart.
+    png
+        Make the PNG file of each chart (with its caption).
+    picture
+        Make the picture of each chart for documents (without its caption).
     workers
         Number of helper processes; None chooses from the number of charts and cores,
         1 draws everything in this process.
     """
 
-    def __init__(self, n_charts: int, svg: bool, workers: int | None = None) -> None:
-        self.svg = svg
+    def __init__(
+        self,
+        n_charts: int,
+        svg: bool,
+        workers: int | None = None,
+        *,
+        png: bool = True,
+        picture: bool = True,
+    ) -> None:
+        self.options = {"png": png, "svg": svg, "picture": picture}
         if workers is None:
             workers = min(os.cpu_count() or 1, MAX_WORKERS) if n_charts >= PARALLEL_FROM else 1
         workers = max(1, min(workers, n_charts))
@@ -105,7 +135,9 @@ class ChartDrawer:
 
     # ------------------------------------------------------------ internals
     def _draw_here(self, entry: Entry) -> None:
-        entry.png, entry.svg = chart_images(entry.result, entry.chart_type, svg=self.svg)
+        entry.png, entry.svg, entry.picture = entry_images(
+            entry.result, entry.chart_type, **self.options
+        )
 
     def _start_helper(self) -> None:
         try:
@@ -131,7 +163,7 @@ class ChartDrawer:
             if entry is None:
                 break
             try:
-                pickle.dump((entry.result, entry.chart_type, self.svg), stdin)
+                pickle.dump((entry.result, entry.chart_type, self.options), stdin)
                 stdin.flush()
                 ok, payload = pickle.load(stdout)
             except (OSError, EOFError, pickle.PickleError, ValueError):
@@ -141,7 +173,7 @@ class ChartDrawer:
                 self._drain()
                 return
             if ok:
-                entry.png, entry.svg = payload
+                entry.png, entry.svg, entry.picture = payload
             else:  # drawn again here, so its error reaches the caller as it would here
                 with self._lock:
                     self._leftover.append(entry)

@@ -106,7 +106,10 @@ def export_outline(
     draw = bool({"png", "svg", "xlsx", "docx", "html"} & set(chosen))
     n_charts = sum(1 for item in kept if item.chart) if draw else 0
     steps = len(kept) + len(chosen)
-    with ChartDrawer(n_charts, svg="svg" in chosen, workers=workers) as drawer:
+    documents = bool({"xlsx", "docx", "html"} & set(chosen))  # their pictures: no caption
+    with ChartDrawer(
+        n_charts, svg="svg" in chosen, workers=workers, png="png" in chosen, picture=documents
+    ) as drawer:
         entries = _entries(
             project,
             kept,

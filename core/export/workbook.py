@@ -162,8 +162,8 @@ def _result_sheet(ws: Worksheet, entry: Entry) -> None:
         limit = 60 if c == 1 else 24
         ws.column_dimensions[get_column_letter(c)].width = min(max(longest + 2, 10), limit)
 
-    if entry.png is not None:
-        image = Image(io.BytesIO(entry.png))
+    if entry.document_png is not None:  # the sheet carries title and notes as text
+        image = Image(io.BytesIO(entry.document_png))
         image.width, image.height = IMAGE_SIZE
         ws.add_image(image, f"{get_column_letter(n_cols + 2)}{header}")
 

@@ -53,6 +53,7 @@ def compute_table(project: Project, spec: TableSpec) -> TableResult:
         rows=list(cached.rows),
         row_roles=list(cached.row_roles),
         data=dict(cached.data),
+        note_kinds=dict(cached.note_kinds),
     )
 
 
@@ -192,7 +193,8 @@ def table_for_working(
         notes.method += add_intervals(result, design)
     if spec.by and GROUP_CAUTION not in notes.cautions:
         notes.cautions.append(GROUP_CAUTION)
-    result.notes = notes.as_list()
+    result.note_kinds = notes.kinds()
+    result.notes = list(result.note_kinds)
     result.data.setdefault("min_cell", ctx.min_cell)
     result.data["treatment"] = spec.treatment
     return result

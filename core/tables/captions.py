@@ -18,6 +18,10 @@ from core.treatments import COMBINED, COMBINED_TEXT, REASON_TEXT
 TITLE_LIMIT = 90
 
 
+# The parts of a caption, in the order they are printed.
+NOTE_PARTS = ("missing", "treatment", "cleaning", "suppression", "method", "source", "cautions")
+
+
 @dataclass
 class Notes:
     """Notes collected while a table is built, emitted in a fixed order."""
@@ -31,19 +35,15 @@ class Notes:
     cautions: list[str] = field(default_factory=list)
 
     def as_list(self) -> list[str]:
-        out: list[str] = []
-        for part in (
-            self.missing,
-            self.treatment,
-            self.cleaning,
-            self.suppression,
-            self.method,
-            self.source,
-            self.cautions,
-        ):
-            for note in part:
+        return list(self.kinds())
+
+    def kinds(self) -> dict[str, str]:
+        """Each note (in caption order, said once) with the part it belongs to."""
+        out: dict[str, str] = {}
+        for part in NOTE_PARTS:
+            for note in getattr(self, part):
                 if note and note not in out:
-                    out.append(note)
+                    out[note] = part
         return out
 
 

@@ -75,6 +75,9 @@ class TableResult:
     wave: str = ""
     instrument: str = ""
     finding: str = ""
+    # The caption part each note belongs to (missing, treatment, cleaning, suppression,
+    # method, source, cautions), so a chart with little room can keep the important ones.
+    note_kinds: dict[str, str] = field(default_factory=dict)
 
     def to_json(self) -> dict[str, Any]:
         out = {
