@@ -575,8 +575,8 @@ def _looks_like_prose(sample: str, delim: str) -> bool:
     except (csv.Error, StopIteration):
         return False
     most_words = max((len(f.split()) for f in first), default=0)
-    if most_words <= 6:
-        return False
+    if most_words <= 6 or not lines[0].endswith((".", "!", ",", ";")):
+        return False  # a header of long question texts does not end like a sentence
     if len(lines) == 1:
         return lines[0].endswith((".", "!"))
     ended = sum(ln.endswith((".", "!", ":")) for ln in lines) / len(lines)

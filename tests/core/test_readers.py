@@ -414,3 +414,15 @@ def test_title_line_and_separator_hint_are_not_data(tmp_path):
     table = read_source(csv)
     assert table.report["delimiter"] == ";"
     assert cells(table.frame, "note") == ["a,b"]
+
+
+def test_long_question_headers_are_not_mistaken_for_prose(tmp_path):
+    path = tmp_path / "q.csv"
+    path.write_text(
+        "How satisfied are you with the course overall,What would you change about it\n"
+        "Satisfied,More lab time please.\nVery satisfied,Nothing at all.\n"
+        "Dissatisfied,Shorter lectures.\n",
+        encoding="utf-8",
+    )
+    table = read_source(path)
+    assert table.report["n_rows"] == 3 and table.report["n_columns"] == 2
