@@ -486,8 +486,9 @@ class SamplingDialog(QDialog):
 
     def done(self, result: int) -> None:
         # A value changed with the arrows and not yet confirmed is kept too.
-        self._on_design_changed()
-        self._save_rates()
+        if not getattr(self.project, "closed", False):
+            self._on_design_changed()
+            self._save_rates()
         super().done(result)
 
     # ------------------------------------------------------------------ stored values
