@@ -22,6 +22,7 @@ import io
 import math
 import re
 import zipfile
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -794,6 +795,8 @@ def detect_header_rows(head: list[list[Any]], text_source: bool) -> int:
     second = [v for v in rows[1] if _cell_text(v)]
     if not second or not all(_is_label(v, text_source) for v in second):
         return 1
+    if question_option_header(rows[0], rows[1]):
+        return 2
     if len(second) < 0.5 * len(first):
         return 1
     wordy = sum(len(str(v).split()) >= 2 for v in second) / len(second)
@@ -829,6 +832,54 @@ def detect_header_rows(head: list[list[Any]], text_source: bool) -> int:
     mean_second = np.mean([len(str(v)) for v in second])
     questions = sum(str(v).rstrip().endswith(("?", ":")) for v in second) / len(second)
     return 2 if mean_second >= 2 * mean_first and questions >= 0.3 else 1
+
+
+_RESPONSE_WORDS = {"response", "open-ended response", "open ended response", "answer", "text"}
+
+
+def question_option_header(row0: Sequence[Any], row1: Sequence[Any]) -> bool:
+    """Question texts on the first row, answer options on the second.
+
+    Some survey platforms export a choose-all-that-apply question as one column per option:
+    the question stands once on the first row above its first option, the cells to its
+    right are blank, and the second row names each option. Single-answer questions then have
+    a blank (or a word such as "Response") on the second row. Data rows never look like
+    that: a first data row has values under the named columns.
+    """
+    width = max(len(row0), len(row1))
+    top = [_cell_text(row0[j]) if j < len(row0) else "" for j in range(width)]
+    sub = [_cell_text(row1[j]) if j < len(row1) else "" for j in range(width)]
+    first = next((j for j, t in enumerate(top) if t), None)
+    if first is None:
+        return False
+    continued = {j for j in range(first + 1, width) if not top[j] and sub[j]}
+    if not continued:
+        return False
+    if any(sub[j] and not top[j] and j not in continued for j in range(width)):
+        return False
+    singles = [j for j in range(width) if top[j] and j + 1 not in continued]
+    quiet = sum(1 for j in singles if not sub[j] or sub[j].lower() in _RESPONSE_WORDS)
+    starts = [j for j in range(width) if top[j] and j + 1 in continued]
+    return all(sub[j] for j in starts) and (not singles or quiet >= 0.8 * len(singles))
+
+
+def _question_option_names(row0: Sequence[Any], row1: Sequence[Any], width: int) -> list[str]:
+    """One text per column: the question, or "question - option" under a shared question."""
+    out: list[str] = []
+    current = ""
+    for j in range(width):
+        top = _cell_text(row0[j]) if j < len(row0) else ""
+        sub = _cell_text(row1[j]) if j < len(row1) else ""
+        if top:
+            current = top
+        elif not sub:
+            current = ""
+        owner = top or current
+        if sub and sub.lower() not in _RESPONSE_WORDS and owner:
+            out.append(f"{owner} - {sub}")
+        else:
+            out.append(owner)
+    return out
 
 
 def _column_letter(index: int) -> str:
@@ -895,9 +946,14 @@ def _assemble(grid: _Grid, header_rows: int | None, progress: Progress, name: st
     questions: dict[str, str] = {}
     renamed: list[dict[str, Any]] = []
     taken: set[str] = set()
-    raw_names = [
-        _cell_text(header[0][j]) if header_rows and j < len(header[0]) else "" for j in kept
-    ]
+    by_option = header_rows == 2 and question_option_header(header[0], header[1])
+    if by_option:
+        combined = _question_option_names(header[0], header[1], width)
+        raw_names = [combined[j] for j in kept]
+    else:
+        raw_names = [
+            _cell_text(header[0][j]) if header_rows and j < len(header[0]) else "" for j in kept
+        ]
     used = {n for n in raw_names if n}
     for pos, j in enumerate(kept):
         source_col = grid.start_col + j
@@ -922,7 +978,10 @@ def _assemble(grid: _Grid, header_rows: int | None, progress: Progress, name: st
                     "reason": reason,
                 }
             )
-        if header_rows == 2 and j < len(header[1]):
+        if by_option:
+            if original:
+                questions[new] = original
+        elif header_rows == 2 and j < len(header[1]):
             text = _cell_text(header[1][j])
             if text:
                 questions[new] = text
@@ -940,6 +999,7 @@ def _assemble(grid: _Grid, header_rows: int | None, progress: Progress, name: st
 
     report: dict[str, Any] = {
         "title_rows": titles,
+        "header_style": "question_option" if by_option else "names",
         "header_rows": header_rows,
         "header_rows_detected": detected,
         "first_data_row": grid.start_row + skip,
@@ -976,7 +1036,12 @@ def _notes(report: dict[str, Any]) -> list[str]:
         notes.append(f"A title line above the table was left out: {title!r}.")
     h = report["header_rows"]
     how = "found" if report["header_rows_detected"] else "as you chose"
-    if h == 2:
+    if h == 2 and report.get("header_style") == "question_option":
+        notes.append(
+            f"Two header rows ({how}): questions, then answer options; a column under a "
+            "shared question is named 'question - option'."
+        )
+    elif h == 2:
         notes.append(f"Two header rows ({how}): column names, then the full question text.")
     elif h == 1:
         notes.append(f"One header row of column names ({how}).")

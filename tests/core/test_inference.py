@@ -535,3 +535,38 @@ def test_scale_helpers():
     assert scales.match_labels(["Neutral", "Neither"]) is None  # middle words say nothing
     named = scales.scale_named_in_text("Rate from 1 (very unlikely) to 5 (very likely)", 5)
     assert named is not None and named[0].family == "likelihood" and named[1] is False
+
+
+def test_question_then_option_export_becomes_one_choose_all_question(tmp_path):
+    import random
+
+    import openpyxl
+
+    question = "Which of these made it harder to take part? (choose all that apply)"
+    rows = [
+        ["Respondent ID", question, None, None, "How satisfied are you overall?"],
+        [None, "Transportation", "Childcare", "Cost of tools", "Response"],
+    ]
+    rng = random.Random(1)
+    satisfaction = ["Satisfied", "Very satisfied", "Dissatisfied", "Very dissatisfied"]
+    for i in range(60):
+        rows.append(
+            [
+                100 + i,
+                rng.choice(["Transportation", None]),
+                rng.choice(["Childcare", None]),
+                rng.choice(["Cost of tools", None]),
+                rng.choice(satisfaction),
+            ]
+        )
+    book = openpyxl.Workbook()
+    for row in rows:
+        book.active.append(row)
+    book.save(tmp_path / "expanded.xlsx")
+    source = read_source(tmp_path / "expanded.xlsx")
+    cb = infer_codebook(source.frame, source.questions)
+    kinds = [v.kind for v in cb]
+    assert kinds == [Kind.IDENTIFIER, *[Kind.MULTISELECT] * 3, Kind.LIKERT]
+    options = [v for v in cb if v.kind is Kind.MULTISELECT]
+    assert [v.option for v in options] == ["Transportation", "Childcare", "Cost of tools"]
+    assert {v.group for v in options} == {question}

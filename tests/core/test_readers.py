@@ -426,3 +426,33 @@ def test_long_question_headers_are_not_mistaken_for_prose(tmp_path):
     )
     table = read_source(path)
     assert table.report["n_rows"] == 3 and table.report["n_columns"] == 2
+
+
+def test_question_then_option_header_rows(tmp_path):
+    question = "Which of these made it harder to take part? (choose all that apply)"
+    rows = [
+        ["Respondent ID", question, None, None, "How satisfied are you overall?"],
+        [None, "Transportation", "Childcare", "Cost of tools", "Response"],
+        [101, "Transportation", None, "Cost of tools", "Satisfied"],
+        [102, None, "Childcare", None, "Very satisfied"],
+        [103, None, None, None, "Dissatisfied"],
+    ]
+    path = write_xlsx(tmp_path / "expanded.xlsx", {"Export": rows})
+    table = read_source(path)
+    assert table.report["header_rows"] == 2
+    assert table.report["header_style"] == "question_option"
+    assert list(table.frame.columns) == [
+        "Respondent ID",
+        f"{question} - Transportation",
+        f"{question} - Childcare",
+        f"{question} - Cost of tools",
+        "How satisfied are you overall?",
+    ]
+    assert cells(table.frame, f"{question} - Childcare") == [None, "Childcare", None]
+    assert table.report["renamed_headers"] == []
+    # A first data row under named columns is data, not an option row.
+    plain = write_xlsx(
+        tmp_path / "plain.xlsx",
+        {"S": [["id", "score", None], ["A", 1, "x"], ["B", 2, "y"], ["C", 3, "z"]]},
+    )
+    assert read_source(plain).report["header_rows"] == 1
