@@ -709,7 +709,9 @@ class ExportView(QWidget):
             button.setEnabled(has)
         charts = sum(1 for it in items if it.chart)
         missing = sum(1 for it in items if needs_finding(it))
-        text = f"{len(items)} result{'s' if len(items) != 1 else ''}, {charts} as charts"
+        text = f"{len(items)} result{'s' if len(items) != 1 else ''}, " + (
+            "1 as a chart" if charts == 1 else f"{charts} as charts"
+        )
         if missing:
             text += f"; {missing} chart{'s' if missing != 1 else ''} without a finding"
         self.count_label.setText(text if has else "")
