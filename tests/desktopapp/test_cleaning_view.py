@@ -10,6 +10,7 @@ from __future__ import annotations
 import json
 import shutil
 
+import numpy as np
 import pytest
 from PySide6.QtCore import Qt
 
@@ -266,3 +267,19 @@ def test_decisions_with_background_work(qtbot, project_path):
         )
     finally:
         win.close_project()
+
+
+def test_row_from_a_slice_equals_the_core_row(window, view):
+    """The view reads a respondent's row from a one-row slice (fast on big waves); it must
+    say exactly what ``core.cleaning.respondent_row`` says on the whole wave."""
+    from core.cleaning import edit_cell, respondent_row
+    from desktopapp.views.cleaning_view import row_cells
+
+    project, wave_id = window.project, view.wave_id
+    edit_cell(project, wave_id, 311, "age", "Impossible age", missing=True, check="range")
+    edit_cell(project, wave_id, 343, "credits_term", "Source says 12", value=12)
+    working = working_data(project, wave_id)
+    flags = flags_for(project, wave_id).flags
+    declined = int(np.flatnonzero((working.reasons["age"] == "declined").to_numpy())[0])
+    for row in (0, 105, 311, 343, declined, working.n_rows - 1):
+        assert row_cells(working, row, flags) == respondent_row(working, row, flags), row
