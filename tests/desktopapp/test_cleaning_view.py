@@ -13,6 +13,7 @@ import shutil
 import numpy as np
 import pytest
 from PySide6.QtCore import Qt
+from PySide6.QtWidgets import QMessageBox
 
 from core.cleaning import flags_for, grouped, ledger_list
 from core.demo import MANIFEST_NAME, build_demo_project
@@ -25,6 +26,7 @@ from desktopapp.views.cleaning_view import CleaningView
 from desktopapp.views.data_grid_view import DataGridView
 
 WAVE = "2026"
+RULE = 'if completed is "No" then credential_earned is not "Yes"'
 
 
 @pytest.fixture(scope="module")
@@ -283,3 +285,60 @@ def test_row_from_a_slice_equals_the_core_row(window, view):
     declined = int(np.flatnonzero((working.reasons["age"] == "declined").to_numpy())[0])
     for row in (0, 105, 311, 343, declined, working.n_rows - 1):
         assert row_cells(working, row, flags) == respondent_row(working, row, flags), row
+
+
+def test_an_impossible_correction_gets_a_plain_message(window, view):
+    view.select_flag(_flag(view, "range", "age", 7))
+    view.reason_edit.setText("Typo")
+    view.value_combo.setEditText("seventy")
+    view.decision_buttons[Action.CORRECT].click()
+    assert view.error_label.text() == "'seventy' is not a valid answer for age (number)."
+    assert window.findChild(QMessageBox) is None  # in place, never a box with a traceback
+    assert ledger_list(window.project, view.wave_id) == []
+
+
+def test_reverse_the_respondents_scale_on_the_battery(window, view, demo):
+    planted = next(
+        p
+        for p in demo[1]["problems"]
+        if p["wave"] == WAVE and p["problem"] == "reversed_scale" and p["resp_id"] == "HP-10098"
+    )
+    row = planted["row"] - 1
+    flag = next(f for f in view.model.flags if f.check == "reversed_scale" and f.row == row)
+    view.select_flag(flag)
+    button = view.decision_buttons[Action.REVERSE]
+    assert button.isEnabled() and button.text() == "&Reverse scale on agree"
+    view.reason_edit.setText("Glowing comments: the scale was read the wrong way round")
+    button.click()
+    entry = ledger_list(window.project, view.wave_id)[0][0]
+    assert entry.action is Action.REVERSE and entry.new_value == "agree"
+    assert entry.variables == tuple(f"agree_{i}" for i in range(1, 9))
+    values = working_data(window.project, view.wave_id).values
+    mirror = {"Strongly disagree": "Strongly agree", "Strongly agree": "Strongly disagree"}
+    for name, before in planted["value"].items():  # the generator's planted answers
+        assert values[name].iat[row] == mirror[before], name
+    assert window.undo.undo_action.text() == "Undo reverse the agree scale of HP-10098"
+
+
+def test_a_consistency_flag_corrects_the_chosen_answer(window, view):
+    from core.rules import add_rule
+
+    add_rule(window.project, view.instrument_id, RULE)
+    flag = next(f for f in view.model.flags if f.check == "consistency")
+    view.select_flag(flag)
+    assert view.variable_combo.isVisibleTo(view)
+    view.variable_combo.setCurrentIndex(view.variable_combo.findData("credential_earned"))
+    assert [view.value_combo.itemText(i) for i in range(view.value_combo.count())] == [
+        "Yes",
+        "No",
+    ]
+    view.value_combo.setCurrentIndex(1)
+    view.reason_edit.setText("Registrar: no credential issued")
+    view.decision_buttons[Action.CORRECT].click()
+    entry = ledger_list(window.project, view.wave_id)[0][0]
+    assert (entry.variables, entry.old_value, entry.new_value) == (
+        ("credential_earned",),
+        "Yes",
+        "No",
+    )
+    assert not any(f.check == "consistency" for f in view.model.flags)
