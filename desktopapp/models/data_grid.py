@@ -98,6 +98,7 @@ class DataGridModel(QAbstractTableModel):
             self.endResetModel()
             return
         self._working = working
+        self._kinds = {n: working.codebook[n].kind for n in names}  # a kind may have changed
         changed = (
             list(self._names) if variables is None else [n for n in variables if n in self._kinds]
         )

@@ -193,3 +193,18 @@ def test_a_decision_repaints_only_its_column(window, view):
     assert resets == []
     assert "age" not in model.cached_columns()  # dropped, read again when next shown
     assert model.data(model.index(311, col)) == "set missing"
+
+
+def test_grid_follows_a_codebook_change(window, view):
+    from desktopapp.views.codebook_view import rename_level
+
+    project = window.project
+    book = project.codebook(view.instrument_id)
+    renamed = rename_level(book["track"], "Welding", "Welding and fabrication")
+    project.set_codebook(view.instrument_id, book.with_variable(renamed), label="Rename")
+    model = view.model
+    col = model.column_of("track")
+    raw = project.raw_table(view.wave_id)["track"]
+    welding = [i for i, t in enumerate(raw.tolist()) if t == "Welding"]
+    assert welding
+    assert {model.data(model.index(r, col)) for r in welding} == {"Welding and fabrication"}
