@@ -4,7 +4,8 @@ The left pane lists what can be tabulated, in questionnaire order: single questi
 question groups (a rating battery, a ranking, a choose-all question) as one selectable row
 with their items beneath. Above the results sit an optional break-down (one or two
 grouping questions) and the options that suit the chosen table; every change computes the
-table again on a worker (a newer request drops an older one's result) and redraws its chart.
+table again on a worker (a newer request drops an older one's result), then draws its chart
+on a worker too, at the size of its pane, so the window only shows finished pixels.
 
 The table is a ``QTableView`` over the result's display cells, so numbers are right-aligned
 and formatted exactly as in every export. Its caption sits above, its base and notes below,
@@ -26,7 +27,16 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
-from PySide6.QtCore import QAbstractTableModel, QEvent, QMimeData, QModelIndex, Qt, QUrl, Signal
+from PySide6.QtCore import (
+    QAbstractTableModel,
+    QEvent,
+    QMimeData,
+    QModelIndex,
+    Qt,
+    QTimer,
+    QUrl,
+    Signal,
+)
 from PySide6.QtGui import (
     QAction,
     QBrush,
@@ -609,6 +619,12 @@ class TabulationView(QWidget):
         self._splitter_moved = False  # once the evaluator drags it, the view leaves it alone
         self._table_ideal = 0
         self.result_splitter.installEventFilter(self)
+        self._rendered: RenderedChart | None = None
+        self._chart_resize = QTimer(self)
+        self._chart_resize.setSingleShot(True)
+        self._chart_resize.setInterval(250)
+        self._chart_resize.timeout.connect(self._on_chart_resize_settled)
+        self.chart.canvas.installEventFilter(self)
 
         # ---- keep and copy
         self.finding_edit = QLineEdit()
@@ -1085,12 +1101,62 @@ class TabulationView(QWidget):
             self.chart.set_drawer(None, "This table has no chart.")
             self.copy_chart_button.setEnabled(False)
             return
-        from core.charts import draw
+        self._request_chart()
 
+    def _chart_pixels(self) -> tuple[int, int, float]:
+        """The chart pane's size in device pixels and the resolution to draw at."""
+        canvas = self.chart.canvas
+        ratio = canvas.devicePixelRatioF() or 1.0
+        width, height = canvas.width(), canvas.height()
+        if width < 100 or height < 100:  # not laid out yet: drawn again once it is
+            width, height = 640, 480
+        return int(width * ratio), int(height * ratio), CHART_DPI * ratio
+
+    def _request_chart(self) -> None:
+        """Draw the chart on a worker at the pane's size; the window only shows the pixels.
+
+        Laying out and drawing a chart takes a few tenths of a second (more for a battery),
+        too long to do on the window's thread at every change of an option.
+        """
+        result, chart_type = self._result, self._chart_type
+        if result is None or chart_type is None:
+            return
+        width, height, dpi = self._chart_pixels()
         # The notes are printed beside the chart, under the table; drawn again in small type
         # under the chart they would only crowd it. A copied chart carries them.
         shown = result_without_notes(result)
-        self.chart.set_drawer(lambda figure: draw(shown, figure, chart_type))
+
+        def work(_progress: Any) -> RenderedChart:
+            return render_chart(shown, chart_type, width, height, dpi)
+
+        self._context.runner.run(
+            work,
+            on_success=self._show_chart,
+            on_failure=self._on_chart_failed,
+            key=f"tabulation-chart:{id(self)}",
+            show_progress=False,
+            label="Drawing the chart…",
+        )
+
+    def _show_chart(self, rendered: RenderedChart) -> None:
+        self._rendered = rendered
+        self.chart.set_drawer(lambda figure: show_pixels(figure, rendered.rgba))
+
+    def _on_chart_failed(self, exc: BaseException) -> None:
+        from desktopapp.errors import message_for
+
+        self._rendered = None
+        self.chart.set_drawer(None, message_for(exc)[0])
+
+    def chart_figure(self) -> Any:
+        """The matplotlib figure the chart shown was drawn on (None while there is none)."""
+        return self._rendered.figure if self._rendered is not None else None
+
+    def _on_chart_resize_settled(self) -> None:
+        rendered = self._rendered
+        width, height, _dpi = self._chart_pixels()
+        if rendered is None or rendered.rgba.shape[:2] != (height, width):
+            self._request_chart()
 
     def _fit_columns(self) -> None:
         self.table.resizeColumnsToContents()
@@ -1121,6 +1187,8 @@ class TabulationView(QWidget):
     def eventFilter(self, watched: Any, event: Any) -> bool:  # noqa: N802 - Qt override
         if watched is self.result_splitter and event.type() == QEvent.Type.Resize:
             self._apply_split()
+        elif watched is self.chart.canvas and event.type() == QEvent.Type.Resize:
+            self._chart_resize.start()  # drawn again at the new size once resizing stops
         return super().eventFilter(watched, event)
 
     def _on_table_failed(self, exc: BaseException) -> None:
@@ -1146,6 +1214,7 @@ class TabulationView(QWidget):
         self._filling = True
         self.chart_combo.clear()
         self._filling = False
+        self._rendered = None
         self.chart.set_drawer(None, "")
         for widget in (
             self.keep_button,
@@ -1303,6 +1372,7 @@ class TabulationView(QWidget):
         if self.select_variable("age"):
             self.set_breakdown("cohort")
         QApplication.processEvents()  # let the window lay the view out before drawing
+        self._request_chart()
         self.chart.render_now()
 
     def screenshot_states(self) -> list[tuple[str, Callable[[], None]]]:
@@ -1321,6 +1391,36 @@ class TabulationView(QWidget):
                 app.focusChanged.disconnect(self._on_app_focus_changed)
         self.variable_tree.blockSignals(True)
         self.gallery.shutdown()
+
+
+@dataclass(frozen=True)
+class RenderedChart:
+    """A chart drawn off the window's thread: its pixels and the figure they came from."""
+
+    rgba: Any  # numpy array, height x width x 4
+    figure: Any  # matplotlib Figure (Agg), kept for tests and inspection
+    chart_type: str
+
+
+def render_chart(
+    result: TableResult, chart_type: str, width: int, height: int, dpi: float
+) -> RenderedChart:
+    """Draw ``result`` as ``chart_type`` at ``width`` x ``height`` pixels (safe on a worker)."""
+    import numpy as np
+
+    from core.charts import make_figure
+
+    figure = make_figure(result, chart_type, width_px=width, height_px=height, dpi=dpi)
+    figure.canvas.draw()
+    rgba = np.asarray(figure.canvas.buffer_rgba()).copy()
+    return RenderedChart(rgba, figure, chart_type)
+
+
+def show_pixels(figure: Any, rgba: Any) -> None:
+    """Show pre-drawn chart pixels on the window's figure, unscaled, from its top left."""
+    figure.clear()
+    top = max(0, int(figure.bbox.height) - rgba.shape[0])
+    figure.figimage(rgba, xo=0, yo=top, origin="upper", resize=False)
 
 
 def result_without_notes(result: TableResult) -> TableResult:

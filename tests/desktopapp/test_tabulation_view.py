@@ -214,7 +214,7 @@ def test_options_follow_the_table(window, view):
     assert "equally spaced" in view.option_caution.text()
 
 
-def test_chart_types_offered_and_switched(window, view):
+def test_chart_types_offered_and_switched(window, view, qtbot):
     view.select_variable("overall_satisfaction")
     view.set_breakdown("cohort")
     result = view.result()
@@ -228,8 +228,21 @@ def test_chart_types_offered_and_switched(window, view):
     assert view.chart_type() == "stacked100"
     assert view.result() is result  # a new chart type redraws; the table is not recomputed
     view.chart.render_now()
-    axes = view.chart.figure.axes
+    axes = view.chart_figure().axes  # drawn on a worker; the window shows its pixels
     assert axes and any(len(ax.patches) for ax in axes)
+    # The pixels are drawn at the chart pane's own size (again after it is resized).
+    canvas = view.chart.canvas
+    ratio = canvas.devicePixelRatioF()
+
+    def drawn_at_pane_size() -> bool:
+        shape = view._rendered.rgba.shape
+        return shape[:2] == (int(canvas.height() * ratio), int(canvas.width() * ratio))
+
+    qtbot.waitUntil(drawn_at_pane_size, timeout=5000)
+    before = canvas.width()
+    total = sum(view.result_splitter.sizes())
+    view.result_splitter.setSizes([total - before - 100, before + 100])
+    qtbot.waitUntil(lambda: canvas.width() > before and drawn_at_pane_size(), timeout=5000)
     # A new option keeps the chosen chart type when it still fits.
     view.set_option("percent", "total")
     assert view.chart_type() == "stacked100"
