@@ -30,6 +30,7 @@ class NodeType:
     MISSING = "missing"
     TABLES = "tables"
     OUTLINE = "outline"
+    COMPARE = "compare"  # an instrument's waves compared (only with two or more waves)
 
 
 # Children of a wave, in the order an evaluator works through them.
@@ -64,11 +65,14 @@ def project_nodes(project: Project) -> list[tuple[TreeNode, TreeNode | None]]:
         inst_node = TreeNode(NodeType.INSTRUMENT, inst.name, inst.id)
         out.append((inst_node, root))
         out.append((TreeNode(NodeType.CODEBOOK, "Codebook", inst.id), inst_node))
-        for wave in project.waves(inst.id):
+        waves = project.waves(inst.id)
+        for wave in waves:
             wave_node = TreeNode(NodeType.WAVE, f"Wave {wave.label}", inst.id, wave.id)
             out.append((wave_node, inst_node))
             for node_type, label in WAVE_CHILDREN:
                 out.append((TreeNode(node_type, label, inst.id, wave.id), wave_node))
+        if len(waves) >= 2:
+            out.append((TreeNode(NodeType.COMPARE, "Compare waves", inst.id), inst_node))
     out.append((TreeNode(NodeType.OUTLINE, "Report outline"), root))
     return out
 

@@ -5,7 +5,8 @@ How a view joins the window
 Each module listed in :data:`VIEW_MODULES` defines ``register(registry)`` and calls
 ``registry.add(node_type, factory)`` for the project-tree node types it shows (the names are
 in :class:`desktopapp.project_tree.NodeType`: project, instrument, wave, codebook, flags,
-data, ledger, missing, tables, outline). A node type nobody registered is left out of the tree.
+data, ledger, missing, tables, outline, compare). A node type nobody registered is left out
+of the tree.
 
 ``factory(context, node)`` returns a ``QWidget``. ``context`` is a :class:`ViewContext`;
 ``node`` is the selected :class:`desktopapp.project_tree.TreeNode` (its ``instrument_id``
@@ -49,6 +50,7 @@ VIEW_MODULES = [
     "desktopapp.views.missing_view",
     "desktopapp.views.tabulation_view",
     "desktopapp.views.export_view",
+    "desktopapp.views.waves_view",
 ]
 
 
