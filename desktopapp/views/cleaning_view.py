@@ -502,7 +502,7 @@ class CleaningView(QWidget):
         relevant = (
             (changes.ledger and mine)
             or changes.codebook
-            or changes.settings
+            or (changes.settings and self._check_settings_changed())
             or changes.structure
             or (
                 changes.rules
@@ -525,6 +525,20 @@ class CleaningView(QWidget):
 
     def _on_run_loaded(self, run: Any) -> None:
         self._show_run(run, self._requested)
+
+    def _check_settings_changed(self) -> bool:
+        """Whether the saved check settings differ from those of the flags shown (other
+        project settings, such as the author's name, leave the flags as they are)."""
+        from dataclasses import replace as copy_with
+
+        from core.checks import load_settings
+
+        if self.run is None:
+            return True
+        try:
+            return load_settings(self.project) != copy_with(self.run.settings, rules=())
+        except Exception:  # noqa: BLE001 - unreadable settings: let the re-run say why
+            return True
 
     def _show_run(self, run: Any, merged: Changes | None) -> None:
         if merged is not None and self._pending is merged:

@@ -342,3 +342,19 @@ def test_a_consistency_flag_corrects_the_chosen_answer(window, view):
         "No",
     )
     assert not any(f.check == "consistency" for f in view.model.flags)
+
+
+def test_other_project_settings_leave_the_flags_alone(window, view):
+    run = view.run
+    window.project.update_settings(author="A. Evaluator")
+    assert view.run is run  # not re-run
+    from dataclasses import replace
+
+    from core.checks import load_settings, save_settings
+
+    save_settings(window.project, replace(load_settings(window.project), speeder_fraction=0.2))
+    assert view.run is not run
+    # The planted speeders finished in 14%, 19%, 23% and 27% of the median time (manifest
+    # notes): under a fifth of it, only the first two remain.
+    speeders = {f.respondent for f in view.model.flags if f.check == "speeder"}
+    assert speeders == {"HP-10372", "HP-10088"}
