@@ -115,6 +115,7 @@ def draw_thumbnails(
     width: int,
     height: int,
     labels: list[str] | None = None,
+    dpi: float = THUMB_DPI,
 ) -> list[Thumbnail]:
     """Compute and draw ``specs[start:start + count]`` as PNGs (runs on a worker).
 
@@ -140,9 +141,9 @@ def draw_thumbnails(
             if labels is not None and labels[index]:
                 by = " — by " + ", ".join(spec.by) if spec.by else ""
                 result = replace(result, title=labels[index] + by)
-            figure = make_figure(result, None, width, height, THUMB_DPI)
+            figure = make_figure(result, None, width, height, dpi)
             buffer = io.BytesIO()
-            figure.savefig(buffer, format="png", dpi=THUMB_DPI, facecolor="white")
+            figure.savefig(buffer, format="png", dpi=dpi, facecolor="white")
             out.append(Thumbnail(index, title, buffer.getvalue()))
         except Exception as exc:  # noqa: BLE001 - one bad table must not stop the gallery
             out.append(Thumbnail(index, title, None, message_for(exc)[0]))
@@ -343,9 +344,12 @@ class GalleryWidget(QWidget):
             return
         project, specs, labels = self.project, list(self._specs), list(self._labels)
         self.status_label.setText(f"Drawing {len(specs)} charts… {start} done.")
+        # Sharp on high-density screens: drawn at the screen's pixels, shown at THUMB_W.
+        ratio = self.devicePixelRatioF() or 1.0
+        width, height, dpi = round(THUMB_W * ratio), round(THUMB_H * ratio), THUMB_DPI * ratio
 
         def work(_progress: Any) -> list[Thumbnail]:
-            return draw_thumbnails(project, specs, start, CHUNK, THUMB_W, THUMB_H, labels)
+            return draw_thumbnails(project, specs, start, CHUNK, width, height, labels, dpi)
 
         self._context.runner.run(
             work,
@@ -368,6 +372,7 @@ class GalleryWidget(QWidget):
             if thumb.png is not None:
                 pixmap = QPixmap()
                 pixmap.loadFromData(thumb.png, "PNG")
+                pixmap.setDevicePixelRatio(pixmap.width() / THUMB_W)
                 item.setIcon(QIcon(pixmap))
             else:
                 item.setIcon(QIcon(_placeholder(thumb.message or "No chart")))
