@@ -82,7 +82,7 @@ HIDDEN_TIP = (
 )
 TAB_SIDE, TAB_PEOPLE, TAB_KEPT = 0, 1, 2
 TRANSITION_WRAP = 12  # characters per header line of a transition table: answers wrap
-RIGHT = int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+RIGHT = Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter
 ALONE = ""  # the "compare with" choice of the kept tab meaning: the chosen wave alone
 
 
@@ -1262,9 +1262,7 @@ class WavesView(QWidget):
         for col, tip in enumerate(header_tips):
             table.horizontalHeaderItem(col).setToolTip(tip)
             align = Qt.AlignmentFlag.AlignRight if col >= 2 else Qt.AlignmentFlag.AlignLeft
-            table.horizontalHeaderItem(col).setTextAlignment(
-                int(align | Qt.AlignmentFlag.AlignVCenter)
-            )
+            table.horizontalHeaderItem(col).setTextAlignment(align | Qt.AlignmentFlag.AlignVCenter)
         rows = match.comparison
         table.setRowCount(len(rows))
         muted = QBrush(QApplication.palette().color(QPalette.ColorRole.PlaceholderText))
@@ -1287,9 +1285,7 @@ class WavesView(QWidget):
                 else:
                     text = f"{value:.1f}% ({n:,})"
                 item = QTableWidgetItem(text)
-                item.setTextAlignment(
-                    int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
-                )
+                item.setTextAlignment(RIGHT)
                 if value is None and n is None:
                     item.setForeground(muted)
                     item.setToolTip(HIDDEN_TIP)
@@ -1359,7 +1355,7 @@ class WavesView(QWidget):
                 f"Answer in wave {tr.waves[1]}: {text}" if 0 < col < len(header) - 1 else text
             )
             align = Qt.AlignmentFlag.AlignRight if col else Qt.AlignmentFlag.AlignLeft
-            head.setTextAlignment(int(align | Qt.AlignmentFlag.AlignVCenter))
+            head.setTextAlignment(align | Qt.AlignmentFlag.AlignVCenter)
         muted = QBrush(QApplication.palette().color(QPalette.ColorRole.PlaceholderText))
         bold = QFont(table.font())
         bold.setBold(True)
@@ -1372,9 +1368,7 @@ class WavesView(QWidget):
                         f"Answer in wave {tr.waves[0]}: {text}" if not total_row else text
                     )
                 else:
-                    item.setTextAlignment(
-                        int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
-                    )
+                    item.setTextAlignment(RIGHT)
                 if text.startswith("<"):
                     item.setForeground(muted)
                     item.setToolTip(f"Hidden: fewer than {tr.min_cell} people.")
