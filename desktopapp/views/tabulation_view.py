@@ -1256,19 +1256,22 @@ class TabulationView(QWidget):
         finding = self.finding_edit.text().strip()
         title = self._result.title if self._result is not None else None
 
-        def work(_progress: Any) -> int:
+        def work(_progress: Any) -> tuple[str, str]:
             from core import outline
 
-            return outline.keep(project, spec, title=title, finding=finding)
+            outline.keep(project, spec, title=title, finding=finding)
+            return title or spec.variable, finding
 
+        # A bound method, so the answer is dropped if the view was closed meanwhile.
         self._context.runner.run(
             work,
-            on_success=lambda item_id: self._on_kept(item_id, title or spec.variable, finding),
+            on_success=self._on_kept,
             writes=True,
             label="Keeping the result for the report…",
         )
 
-    def _on_kept(self, _item_id: int, title: str, finding: str) -> None:
+    def _on_kept(self, kept: tuple[str, str]) -> None:
+        title, finding = kept
         self.finding_edit.clear()
         hint = "" if finding else " Add its finding sentence in the report outline."
         self._message(f"Kept “{short_title(title, 60)}” for the report.{hint}")
