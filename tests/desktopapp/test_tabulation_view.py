@@ -383,3 +383,21 @@ def test_a_question_that_stops_being_tabulable_leaves_a_plain_message(window, vi
     finally:
         window.undo.undo_action.trigger()
     assert "track" in [e.name for e in view._entries]
+
+
+def test_missing_answers_shown_as_rows(window, view):
+    from .demo_window import source_frame
+
+    view.select_variable("track")
+    view.set_option("treatment", "show-missing")
+    result = view.result()
+    assert shown_rows(view) == _display(compute_table(window.project, view.current_spec()))
+    missing = [r for r, role in enumerate(result.row_roles) if role == "missing"]
+    assert missing
+    # Reference: the 6 blank track cells of the workbook (pandas isna), as a row in italics.
+    blanks = int(source_frame(window)["track"].isna().sum())
+    assert blanks == 6
+    model = view.table.model()
+    row = missing[0]
+    assert shown_rows(view)[row][1] == str(blanks)
+    assert model.data(model.index(row, 0), Qt.ItemDataRole.FontRole).italic()
