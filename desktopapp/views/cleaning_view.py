@@ -809,10 +809,13 @@ class CleaningView(QWidget):
     def _entry(self, entry_id: int) -> Any:
         from core.ledger import entries_for
 
-        for e in entries_for(self.project, self.wave_id):
-            if e.id == entry_id:
-                return e
-        return None
+        project, wave_id = self.project, self.wave_id
+        # Read once per project version: a long ledger is parsed once, not per selection.
+        by_id = project.cached(
+            ("cleaning-view-entries", wave_id),
+            lambda: {e.id: e for e in entries_for(project, wave_id)},
+        )
+        return by_id.get(entry_id)
 
     def _load_row(self, flag: Flag) -> None:
         project, wave_id = self.project, self.wave_id

@@ -205,6 +205,12 @@ def test_batch_decision_over_three_flags_is_one_undo_step(window, view):
     assert len(decided) == 3
     group = next(g for g in view.model.groups() if g.check == "outlier")
     assert (group.count, group.open_count) == (7, 4)
+    view.select_flag(decided[0])
+    assert view.decided_label.text().startswith(
+        f"✓ Decided by ledger entry {decided[0].decided_by}: kept as is — "
+        "“Checked against the paper forms: real values”"
+    )
+    assert view.model.data(view.model.index_of(decided[0].key)).startswith("✓ ")
 
     window.undo.undo_action.trigger()
     assert [a for _, a in ledger_list(window.project, view.wave_id)] == [False] * 3
