@@ -596,7 +596,9 @@ class WavesView(QWidget):
         self.people_splitter.addWidget(left)
         self.people_splitter.addWidget(right)
         self.people_splitter.setChildrenCollapsible(False)
-        self.people_splitter.setSizes([520, 590])
+        self.people_splitter.setStretchFactor(0, 1)
+        self.people_splitter.setStretchFactor(1, 1)
+        self.people_splitter.setSizes([540, 560])
         return self.people_splitter
 
     def _build_kept(self) -> QWidget:
@@ -1302,8 +1304,12 @@ class WavesView(QWidget):
             if diff is None:
                 item.setForeground(muted)
             table.setItem(r, 4, item)
-        _fit(table, first_max=110, other_max=100)
-        table.horizontalHeader().resizeSection(1, min(table.sizeHintForColumn(1) + 4, 130))
+        table.resizeColumnsToContents()
+        header = table.horizontalHeader()
+        # Narrow enough for half the view: a long name is cut (its question is in the
+        # tooltip), a long answer wraps.
+        for col, widest in enumerate((100, 120, 100, 100, 76)):
+            header.resizeSection(col, min(header.sectionSize(col), widest))
         table.resizeRowsToContents()
 
     def _request_transition(self) -> None:
