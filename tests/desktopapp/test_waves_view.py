@@ -334,3 +334,29 @@ def test_empty_outline_says_what_to_do(view):
     view.show_tab(TAB_KEPT)
     assert view.kept_versions() == []
     assert "Nothing is kept for the report yet" in view.kept_status.text()
+
+
+# ---------------------------------------------------------------------- following changes
+def test_a_cleaning_decision_reaches_the_comparison(view, window):
+    from core.ledger import Action, Decision, record, withdraw
+
+    project = window.project
+    view.select_variable("overall_satisfaction")
+    wave = project.find_wave("2027", INSTRUMENT)
+    raw = project.raw_table(wave.id)
+    row = int((raw["overall_satisfaction"].astype(str) == "Satisfied").to_numpy().argmax())
+    decision = Decision(
+        Action.SET_MISSING, "Answer given twice on paper", ("overall_satisfaction",), row=row
+    )
+    ids, _changes = record(project, wave.id, [decision])
+    try:
+        cols = shown_columns(view)
+        rows = {r[0]: r for r in shown_rows(view)}
+        # One answer fewer in 2027 (147 - 1 and 370 - 1); 2026 unchanged.
+        assert rows["Satisfied"][cols.index("2027 count")] == "146"
+        assert rows["Total (base)"][cols.index("2027 count")] == "369"
+        assert rows["Total (base)"][cols.index("2026 count")] == "351"
+    finally:
+        withdraw(project, wave.id, ids, "Test finished")
+    rows = {r[0]: r for r in shown_rows(view)}
+    assert rows["Total (base)"][shown_columns(view).index("2027 count")] == "370"
