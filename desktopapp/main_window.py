@@ -117,7 +117,7 @@ class MainWindow(QMainWindow):
         self.splitter.setStretchFactor(0, 0)
         self.splitter.setStretchFactor(1, 1)
         self.splitter.setChildrenCollapsible(False)
-        self.splitter.setSizes([240, 960])
+        self.splitter.setSizes([270, 1010])
         self._pages = QStackedWidget()
         self._pages.addWidget(self.start_page)
         self._pages.addWidget(self.splitter)

@@ -56,7 +56,7 @@ def capture(out_dir: Path) -> list[Path]:
     save(window, "start-page")
 
     window.open_project(demo)
-    window.splitter.setSizes([230, WIDTH - 230])
+    window.splitter.setSizes([270, WIDTH - 270])
     seen: set[str] = set()
     for node in list(window.tree.nodes()):
         if node.type in seen:
