@@ -29,7 +29,7 @@ import pyarrow.parquet as pq
 from core.codebook import Codebook
 from core.errors import ProjectError
 
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2
 APPLICATION_ID = 0x504C4354  # "PLCT": lets `file` and we ourselves recognise the format
 SUFFIX = ".plaincount"
 
@@ -57,6 +57,8 @@ CREATE TABLE waves (
     source_name TEXT NOT NULL,
     source_bytes BLOB NOT NULL,
     source_sha256 TEXT NOT NULL,
+    source_codec TEXT NOT NULL DEFAULT '',
+    source_size INTEGER,
     raw_table BLOB NOT NULL,
     raw_sha256 TEXT NOT NULL,
     n_rows INTEGER NOT NULL,
@@ -111,6 +113,19 @@ CREATE TABLE outline (
 
 # One function per schema step: MIGRATIONS[n] takes a version-n file to version n+1.
 MIGRATIONS: dict[int, Callable[[sqlite3.Connection], None]] = {}
+
+
+def _v1_to_v2(conn: sqlite3.Connection) -> None:
+    # Version 2 may store the source file compressed; version-1 rows stay as they were.
+    conn.execute("ALTER TABLE waves ADD COLUMN source_codec TEXT NOT NULL DEFAULT ''")
+    conn.execute("ALTER TABLE waves ADD COLUMN source_size INTEGER")
+
+
+MIGRATIONS[1] = _v1_to_v2
+
+# Source files are kept zstd-compressed: survey exports shrink several-fold, so the project
+# file stays small enough to e-mail and the import writes far less to disk.
+SOURCE_CODEC = "zstd"
 
 
 def now() -> str:
@@ -502,6 +517,7 @@ class Project:
         if any(w.label == label for w in self.waves(instrument_id)):
             raise ProjectError(f"This instrument already has a wave labelled {label!r}.")
         blob = raw_blob if raw_blob is not None else table_to_parquet(raw)
+        packed = pa.compress(source_bytes, codec=SOURCE_CODEC, asbytes=True)
         with self.transaction() as conn:
             (position,) = conn.execute(
                 "SELECT COALESCE(MAX(position), 0) + 1 FROM waves WHERE instrument_id = ?",
@@ -509,15 +525,18 @@ class Project:
             ).fetchone()
             cur = conn.execute(
                 "INSERT INTO waves(instrument_id, label, position, source_name, source_bytes, "
-                "source_sha256, raw_table, raw_sha256, n_rows, n_columns, import_report, "
-                "settings, created) VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?)",
+                "source_sha256, source_codec, source_size, raw_table, raw_sha256, n_rows, "
+                "n_columns, import_report, settings, created) "
+                "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
                 (
                     instrument_id,
                     label,
                     position,
                     source_name,
-                    source_bytes,
+                    packed,
                     sha256(source_bytes),
+                    SOURCE_CODEC,
+                    len(source_bytes),
                     blob,
                     sha256(blob),
                     len(raw),
@@ -564,10 +583,24 @@ class Project:
         return self._raw_cache[wave_id]
 
     def source_file(self, wave_id: int) -> tuple[str, bytes]:
-        rows = self.query("SELECT source_name, source_bytes FROM waves WHERE id = ?", (wave_id,))
+        """The original source file's name and bytes, exactly as imported (hash-checked)."""
+        rows = self.query(
+            "SELECT source_name, source_bytes, source_codec, source_size, source_sha256 "
+            "FROM waves WHERE id = ?",
+            (wave_id,),
+        )
         if not rows:
             raise ProjectError(f"The project has no wave number {wave_id}.")
-        return rows[0][0], bytes(rows[0][1])
+        name, stored, codec, size, digest = rows[0]
+        data = bytes(stored)
+        if codec:
+            data = pa.decompress(data, decompressed_size=size, codec=codec, asbytes=True)
+        if sha256(data) != digest:
+            raise ProjectError(
+                "The stored copy of this wave's source file no longer matches its recorded "
+                "fingerprint (SHA-256): the project file has been damaged."
+            )
+        return name, data
 
     def update_wave_settings(self, wave_id: int, **changes: Any) -> Changes:
         merged = {**self.wave(wave_id).settings, **changes}

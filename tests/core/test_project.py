@@ -31,6 +31,7 @@ from core.project import SCHEMA_VERSION, Project
 
 DATA = Path(__file__).resolve().parent.parent / "data"
 V1 = DATA / "project_v1.plaincount"
+V2 = DATA / "project_v2.plaincount"
 
 
 def digest(path: Path) -> str:
@@ -216,10 +217,11 @@ def test_undo_and_redo_of_codebook_edits(tmp_path):
         assert project.codebook(inst)["site"].kind is Kind.CATEGORICAL
 
 
-def test_schema_version_1_file_opens_with_its_wave(tmp_path):
-    """A real version-1 file (tests/data/make_project_v1.py) opens, migrated if needed."""
-    path = tmp_path / V1.name
-    shutil.copy(V1, path)
+@pytest.mark.parametrize("fixture", [V1, V2], ids=["version-1", "version-2"])
+def test_every_released_file_version_opens_with_its_wave(tmp_path, fixture):
+    """Real files of each schema version (tests/data/make_project_v*.py) open, migrated."""
+    path = tmp_path / fixture.name
+    shutil.copy(fixture, path)
     with Project.open(path) as project:
         inst = project.instrument("Participant survey")
         (wave,) = project.waves(inst.id)
@@ -233,6 +235,21 @@ def test_schema_version_1_file_opens_with_its_wave(tmp_path):
         assert cb["age"].range == (16.0, 80.0)
         name, blob = project.source_file(wave.id)
         assert name == "survey_2026.csv" and blob.startswith(b"resp_id,age,zip,pet,agree\n")
+        assert project.query("SELECT value FROM meta WHERE key='schema_version'")[0][0] == str(
+            SCHEMA_VERSION
+        )
+
+
+def test_source_file_is_stored_compressed_and_read_back_exactly(tmp_path):
+    source = "resp_id,comment\n" + "".join(f"R{i},same words again\n" for i in range(5000))
+    data = source.encode()
+    with Project.create(tmp_path / "c.plaincount") as project:
+        inst = project.add_instrument("Survey")
+        raw = pd.DataFrame({"resp_id": [f"R{i}" for i in range(5000)]})
+        wave = project.add_wave(inst.id, "2026", "s.csv", data, raw)
+        (stored,) = project.query("SELECT length(source_bytes) FROM waves")[0]
+        assert stored < len(data) / 5
+        assert project.source_file(wave.id) == ("s.csv", data)
 
 
 # ---------------------------------------------------------------------------- crash safety
