@@ -20,7 +20,6 @@ once for scanning; clicking one opens it here.
 
 from __future__ import annotations
 
-import contextlib
 import textwrap
 from collections.abc import Callable
 from dataclasses import dataclass, replace
@@ -28,10 +27,8 @@ from pathlib import Path
 from typing import Any
 
 from PySide6.QtCore import (
-    QAbstractTableModel,
     QEvent,
     QMimeData,
-    QModelIndex,
     Qt,
     QTimer,
     QUrl,
@@ -46,6 +43,8 @@ from PySide6.QtGui import (
     QImage,
     QKeySequence,
     QPalette,
+    QStandardItem,
+    QStandardItemModel,
 )
 from PySide6.QtWidgets import (
     QAbstractItemView,
@@ -254,28 +253,70 @@ def chart_mime(result: TableResult, png: bytes) -> QMimeData:
 
 
 # ---------------------------------------------------------------------- the table model
-class ResultTableModel(QAbstractTableModel):
-    """The display table of a :class:`TableResult`: one Qt cell per result cell."""
+class ResultTableModel(QStandardItemModel):
+    """The display table of a :class:`TableResult`: one item per result cell.
+
+    The cells are filled in once per result (text, alignment, font, colours, tooltips), so
+    painting and resizing the table never call back into Python. That is also why this is
+    not a Python ``data()`` model: this PySide6 release loses a reference to ``None``
+    whenever ``None`` crosses between Python and Qt, and a ``data()`` written in Python
+    answers ``None`` for most roles of every cell at every repaint.
+    """
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self._result: TableResult | None = None
         self._min_cell = 5
-        self._numeric_cols = set()
+        self._numeric_cols: set[int] = set()
 
     def set_result(self, result: TableResult | None) -> None:
-        self.beginResetModel()
+        self.clear()
         self._result = result
-        self._numeric_cols: set[int] = set()
-        if result is not None:
-            self._min_cell = int(result.data.get("min_cell", 5) or 0)
-            # A column of numbers keeps all its cells right-aligned, also a text cell in it
-            # (the modes of a statistics table), so the column reads as one.
-            for row in result.rows:
-                for c, cell in enumerate(row):
-                    if c > 0 and (cell.numeric or cell.suppressed):
-                        self._numeric_cols.add(c)
-        self.endResetModel()
+        self._numeric_cols = set()
+        if result is None:
+            return
+        self._min_cell = int(result.data.get("min_cell", 5) or 0)
+        # A column of numbers keeps all its cells right-aligned, also a text cell in it
+        # (the modes of a statistics table), so the column reads as one.
+        for row in result.rows:
+            for c, cell in enumerate(row):
+                if c > 0 and (cell.numeric or cell.suppressed):
+                    self._numeric_cols.add(c)
+        self.setColumnCount(len(result.columns))
+        left = Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter
+        right = Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter
+        for c, name in enumerate(result.columns):
+            header = QStandardItem(
+                textwrap.fill(str(name), HEADER_WRAP, break_long_words=False) or str(name)
+            )
+            header.setToolTip(str(name))
+            header.setTextAlignment(right if c in self._numeric_cols else left)
+            self.setHorizontalHeaderItem(c, header)
+        muted = QBrush(QApplication.palette().color(QPalette.ColorRole.PlaceholderText))
+        tint = QBrush(UNSTABLE_TINT)
+        for r, row in enumerate(result.rows):
+            role = result.row_roles[r] if r < len(result.row_roles) else "level"
+            font = None
+            if role in ("total", "missing"):
+                font = QFont()
+                font.setBold(role == "total")
+                font.setItalic(role == "missing")
+            items = []
+            for c, cell in enumerate(row):
+                item = QStandardItem(cell.display)
+                item.setEditable(False)
+                item.setTextAlignment(right if c in self._numeric_cols else left)
+                if font is not None:
+                    item.setFont(font)
+                if cell.suppressed:
+                    item.setForeground(muted)
+                if cell.flag == "unstable":
+                    item.setBackground(tint)
+                tip = self._tooltip(cell)
+                if tip:
+                    item.setToolTip(tip)
+                items.append(item)
+            self.appendRow(items)
 
     def result(self) -> TableResult | None:
         return self._result
@@ -286,74 +327,14 @@ class ResultTableModel(QAbstractTableModel):
         cells = self._result.rows[row]
         return cells[column] if column < len(cells) else None
 
-    def rowCount(self, parent: QModelIndex | None = None) -> int:  # noqa: N802 - Qt override
-        if self._result is None or (parent is not None and parent.isValid()):
-            return 0
-        return len(self._result.rows)
-
-    def columnCount(self, parent: QModelIndex | None = None) -> int:  # noqa: N802 - Qt override
-        if self._result is None or (parent is not None and parent.isValid()):
-            return 0
-        return len(self._result.columns)
-
-    def _role(self, row: int) -> str:
-        roles = self._result.row_roles if self._result is not None else []
-        return roles[row] if row < len(roles) else "level"
-
-    def data(self, index: QModelIndex, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
-        if not index.isValid():
-            return None
-        cell = self.cell(index.row(), index.column())
-        if cell is None:
-            return None
-        if role == Qt.ItemDataRole.DisplayRole:
-            return cell.display
-        if role == Qt.ItemDataRole.TextAlignmentRole:
-            if index.column() in self._numeric_cols:
-                return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
-            return int(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter)
-        if role == Qt.ItemDataRole.FontRole:
-            row_role = self._role(index.row())
-            if row_role in ("total", "missing"):
-                font = QFont()
-                font.setBold(row_role == "total")
-                font.setItalic(row_role == "missing")
-                return font
-            return None
-        if role == Qt.ItemDataRole.ForegroundRole and cell.suppressed:
-            return QBrush(QApplication.palette().color(QPalette.ColorRole.PlaceholderText))
-        if role == Qt.ItemDataRole.BackgroundRole and cell.flag == "unstable":
-            return QBrush(UNSTABLE_TINT)
-        if role == Qt.ItemDataRole.ToolTipRole:
-            return self._tooltip(cell)
-        return None
-
-    def _tooltip(self, cell: Cell) -> str | None:
+    def _tooltip(self, cell: Cell) -> str:
         if cell.suppressed:
             if cell.display.startswith("<"):
                 return f"Hidden: fewer than {self._min_cell} people, who could be recognised."
             return "Hidden so that a small count cannot be worked out from the totals."
         if cell.flag == "unstable":
             return "Based on few people: one or two answers move this percentage a lot."
-        return None
-
-    def headerData(  # noqa: N802 - Qt override
-        self, section: int, orientation: Qt.Orientation, role: int = Qt.ItemDataRole.DisplayRole
-    ) -> Any:
-        if self._result is None or orientation != Qt.Orientation.Horizontal:
-            return None
-        if section >= len(self._result.columns):
-            return None
-        name = str(self._result.columns[section])
-        if role == Qt.ItemDataRole.DisplayRole:
-            return textwrap.fill(name, HEADER_WRAP, break_long_words=False) or name
-        if role == Qt.ItemDataRole.ToolTipRole:
-            return name
-        if role == Qt.ItemDataRole.TextAlignmentRole:
-            right = section in self._numeric_cols
-            align = Qt.AlignmentFlag.AlignRight if right else Qt.AlignmentFlag.AlignLeft
-            return int(align | Qt.AlignmentFlag.AlignVCenter)
-        return None
+        return ""
 
     def has_unstable(self) -> bool:
         return self._result is not None and any(
@@ -705,9 +686,12 @@ class TabulationView(QWidget):
         self.gallery.open_requested.connect(self._on_gallery_open_requested)
         self.tabs.currentChanged.connect(self._on_tabs_current_changed)
         self.result_splitter.splitterMoved.connect(self._on_result_splitter_moved)
-        app = QApplication.instance()
-        if app is not None:
-            app.focusChanged.connect(self._on_app_focus_changed)
+        # Which of the two had the focus last decides what Ctrl+C copies. Focus-in events of
+        # the two widgets tell it; the application-wide focus signal would also report every
+        # focus change elsewhere (and passes None for "no widget", which this PySide6
+        # release hands back without a reference of its own).
+        self.table.installEventFilter(self)
+        self.table.viewport().installEventFilter(self)
 
     # ------------------------------------------------------------------ data access
     @property
@@ -739,6 +723,9 @@ class TabulationView(QWidget):
         return next((e for e in self._entries if e.name == name), None)
 
     def breakdown(self) -> tuple[str, ...]:
+        """The break-down questions chosen (the "none" entry holds "")."""
+        # Item data is never None here: this PySide6 release returns a None item datum
+        # without taking a reference to it, which over a long session can crash Python 3.11.
         names = [self.by_combo.currentData(), self.by2_combo.currentData()]
         out: list[str] = []
         for name in names:
@@ -843,7 +830,7 @@ class TabulationView(QWidget):
                 else:
                     # An option of a ranking or choose-all question: only the whole
                     # question has a table, so the row is listed but not selectable.
-                    child.setData(0, NAME_ROLE, None)
+                    child.setData(0, NAME_ROLE, "")
                     child.setFlags(Qt.ItemFlag.ItemIsEnabled)
                 item.addChild(child)
         self.variable_tree.blockSignals(False)
@@ -933,7 +920,7 @@ class TabulationView(QWidget):
             for combo, previous in zip((self.by_combo, self.by2_combo), (*keep, None, None)):
                 combo.blockSignals(True)
                 combo.clear()
-                combo.addItem(NO_BREAKDOWN, None)
+                combo.addItem(NO_BREAKDOWN, "")  # "" rather than None: see breakdown()
                 for var in candidates:
                     combo.addItem(
                         kind_icon(var.kind),
@@ -1095,7 +1082,7 @@ class TabulationView(QWidget):
         if result is None:
             self.chart.set_drawer(None, "")
             return
-        chart_type = self.chart_combo.currentData()
+        chart_type = self.chart_combo.currentData() if self.chart_combo.count() else None
         self._chart_type = chart_type
         if chart_type is None:
             self.chart.set_drawer(None, "This table has no chart.")
@@ -1189,6 +1176,11 @@ class TabulationView(QWidget):
             self._apply_split()
         elif watched is self.chart.canvas and event.type() == QEvent.Type.Resize:
             self._chart_resize.start()  # drawn again at the new size once resizing stops
+        if event.type() == QEvent.Type.FocusIn:
+            if watched is self.chart.canvas:
+                self._last_focus = "chart"
+            elif watched is self.table or watched is self.table.viewport():
+                self._last_focus = "table"
         return super().eventFilter(watched, event)
 
     def _on_table_failed(self, exc: BaseException) -> None:
@@ -1282,14 +1274,6 @@ class TabulationView(QWidget):
             self._context.show_message(text)
 
     # ------------------------------------------------------------------ copy
-    def _on_app_focus_changed(self, _old: QWidget | None, new: QWidget | None) -> None:
-        if new is None:
-            return
-        if new is self.table or self.table.isAncestorOf(new):
-            self._last_focus = "table"
-        elif new is self.chart or self.chart.isAncestorOf(new):
-            self._last_focus = "chart"
-
     def copy_current(self) -> None:
         """Copy whichever of the table and the chart last had the focus."""
         if self._last_focus == "chart" and self._chart_type is not None:
@@ -1388,10 +1372,7 @@ class TabulationView(QWidget):
         return [("tables-gallery", gallery)]
 
     def shutdown(self) -> None:
-        app = QApplication.instance()
-        if app is not None:
-            with contextlib.suppress(RuntimeError, TypeError):
-                app.focusChanged.disconnect(self._on_app_focus_changed)
+        self._chart_resize.stop()
         self.variable_tree.blockSignals(True)
         self.gallery.shutdown()
 

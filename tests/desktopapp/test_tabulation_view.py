@@ -66,7 +66,7 @@ def test_list_groups_batteries_rankings_and_choices(view):
     agree_child = tops["agree"].child(2)
     assert agree_child.data(0, Qt.ItemDataRole.UserRole) == "agree_3"
     rank_child = tops["rank"].child(0)
-    assert rank_child.data(0, Qt.ItemDataRole.UserRole) is None
+    assert rank_child.data(0, Qt.ItemDataRole.UserRole) == ""
     assert not rank_child.flags() & Qt.ItemFlag.ItemIsSelectable
 
 
