@@ -40,8 +40,8 @@ from desktopapp.views import ViewContext, muted_label, section_label
 WHOLE = ""  # the source combo's data for "the whole questionnaire"
 # Thumbnail size in pixels, and the resolution it is drawn at: a high resolution for the
 # size keeps the chart's type large enough to read in a small picture.
-THUMB_W, THUMB_H = 400, 250
-THUMB_DPI = 90
+THUMB_W, THUMB_H = 360, 270
+THUMB_DPI = 80
 CHUNK = 4  # charts drawn per worker call: the first appear quickly, later ones keep coming
 SPEC_ROLE = Qt.ItemDataRole.UserRole
 MESSAGE_ROLE = Qt.ItemDataRole.UserRole + 1

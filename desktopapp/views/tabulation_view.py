@@ -99,7 +99,7 @@ HEADER_WRAP = 16  # characters per header line: long answer labels wrap instead 
 # The chart in the window is drawn at a high resolution for its size, so that its type (sized
 # for slides) stays readable in a pane a third of the screen wide.
 CHART_DPI = 110
-CHART_MIN_WIDTH = 360
+CHART_MIN_WIDTH = 340
 
 PERCENT_LABELS = {
     "row": "Within each group (row %)",
