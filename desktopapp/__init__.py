@@ -4,6 +4,10 @@
 goes through :mod:`desktopapp.workers`.
 """
 
+from desktopapp.binding_guard import keep_none_alive
+
+keep_none_alive()  # before any Qt call: see binding_guard
+
 APP_NAME = "Plaincount"
 ORGANISATION = "Plaincount"
 
