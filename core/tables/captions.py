@@ -144,7 +144,7 @@ def suppression_note(threshold: int, primary: int, secondary: int) -> str:
             f"; {secondary} further cell{'s are' if secondary != 1 else ' is'} hidden (shown "
             'as "–") so the small ones cannot be worked out from the totals'
         )
-    return text + ". Percentages of hidden counts are hidden too."
+    return text + '. Percentages of hidden counts are hidden too (shown as "–").'
 
 
 def unstable_note(unstable_base: int, groups: list[str]) -> str:

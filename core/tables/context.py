@@ -129,7 +129,7 @@ def protected_groups(bases: np.ndarray, ctx: Context) -> np.ndarray:
 
 def pct_cell(p: float | None, hidden: bool, ctx: Context, base: int | None = None) -> Cell:
     if hidden:
-        return Cell(None, "percent", suppressed=True, text="")
+        return Cell(None, "percent", suppressed=True, text=COMPLEMENT_TEXT)
     if p is None:
         return Cell(None, "percent")
     flag = None

@@ -285,7 +285,7 @@ def _stat_cell(key: str, value: Any, hide: bool, ctx: Context, n: int = 0) -> Ce
     if key == "n":
         return count_cell(n, hide, ctx) if hide else Cell(value, "count")
     if hide:
-        return Cell(None, "number", suppressed=True, text="")
+        return Cell(None, "number", suppressed=True, text="–")
     if key == "missing":
         return Cell(value, "count")
     if key == "modes":

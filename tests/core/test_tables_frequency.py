@@ -117,7 +117,7 @@ def test_missing_rows_by_reason_and_small_counts_hidden(tmp_path):
             "All respondents",
         ]
         assert [row[1].display for row in result.rows] == ["20", "–", "<5", "32", "–", "<5", "39"]
-        assert result.rows[2][2].display == ""  # its percentage is hidden too
+        assert result.rows[2][2].display == "–"  # its percentage is hidden too
         assert result.base == "Respondents who answered, n = 32 of 39"
         assert any("7 of 39 respondents (17.9%) have no answer to q" in n for n in result.notes)
         shown = compute_table(p, TableSpec("q", min_cell=0))
