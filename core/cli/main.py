@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import os
 import sys
 
 from core.errors import PlaincountError
@@ -37,13 +38,20 @@ def main(argv: list[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
     try:
-        return int(args.func(args) or 0)
+        code = int(args.func(args) or 0)
+        sys.stdout.flush()  # inside the try: a reader that went away is handled below
+        return code
     except PlaincountError as exc:
         print(f"plaincount-cli: {exc}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print("plaincount-cli: stopped.", file=sys.stderr)
         return 130
+    except BrokenPipeError:
+        # The reader went away (e.g. `| head`): stop quietly, as shell tools do.
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return 0
 
 
 if __name__ == "__main__":
