@@ -130,6 +130,11 @@ TESTS_CAUTION = (
     "A test only makes sense when the respondents are a sample of a larger group; for "
     "everyone in the program the differences shown are the actual differences."
 )
+INTERVALS_TIP = (
+    "Show a 95% range beside each percentage when the wave is marked as a sample of a larger "
+    "group (set it on the wave). A wave sent to everyone has no sampling error: the notes "
+    "then say so instead."
+)
 SUPPRESSION_OFF_CAUTION = (
     "Small counts are shown: they can identify people. Turn hiding back on before sharing."
 )
@@ -479,6 +484,9 @@ class TabulationView(QWidget):
         self.tests_check = QCheckBox("Test the differences (sampled data)")
         self.tests_check.setObjectName("testsCheck")
         self.tests_check.setToolTip(TESTS_CAUTION)
+        self.intervals_check = QCheckBox("Margins of error")
+        self.intervals_check.setObjectName("intervalsCheck")
+        self.intervals_check.setToolTip(INTERVALS_TIP)
         self.option_caution = QLabel("")
         self.option_caution.setObjectName("optionCaution")
         self.option_caution.setWordWrap(True)
@@ -510,6 +518,7 @@ class TabulationView(QWidget):
         checks = QHBoxLayout()
         checks.addWidget(self.mean_check)
         checks.addWidget(self.tests_check)
+        checks.addWidget(self.intervals_check)
         checks.addStretch(1)
         grid.addLayout(checks, 1, 2, 1, 4)
         for col in (1, 3):
@@ -675,6 +684,7 @@ class TabulationView(QWidget):
         self.min_cell_spin.valueChanged.connect(self._on_option_changed)
         self.mean_check.toggled.connect(self._on_option_changed)
         self.tests_check.toggled.connect(self._on_option_changed)
+        self.intervals_check.toggled.connect(self._on_option_changed)
         self.chart_combo.currentIndexChanged.connect(self._on_chart_combo_changed)
         self.methods_link.linkActivated.connect(self._on_methods_link_activated)
         self.keep_button.clicked.connect(self._on_keep_button_clicked)
@@ -755,6 +765,7 @@ class TabulationView(QWidget):
             show_mean=self.mean_check.isChecked() and "show_mean" in self._visible_options,
             borda=self.borda_combo.currentData(),
             tests=self.tests_check.isChecked() and "tests" in self._visible_options,
+            intervals=self.intervals_check.isChecked() and "intervals" in self._visible_options,
         )
 
     # ------------------------------------------------------------------ public controls
@@ -801,6 +812,8 @@ class TabulationView(QWidget):
             self.mean_check.setChecked(bool(value))
         elif name == "tests":
             self.tests_check.setChecked(bool(value))
+        elif name == "intervals":
+            self.intervals_check.setChecked(bool(value))
         elif name == "chart":
             index = self.chart_combo.findData(value)
             if index < 0:
@@ -983,6 +996,8 @@ class TabulationView(QWidget):
             visible.add("borda")
         if family == "battery" or (family == "likert" and not has_by):
             visible.add("show_mean")
+        if family in ("categorical", "likert"):  # frequency tables and cross-tabulations
+            visible.add("intervals")
         self._visible_options = visible
         for key, (label, widget) in self._option_rows.items():
             shown = key in visible
@@ -990,6 +1005,7 @@ class TabulationView(QWidget):
             widget.setVisible(shown)
         self.mean_check.setVisible("show_mean" in visible)
         self.tests_check.setVisible("tests" in visible)
+        self.intervals_check.setVisible("intervals" in visible)
         sort_text = "Highest % agreeing first" if family == "battery" else "Most frequent first"
         self.sort_combo.setItemText(self.sort_combo.findData("frequency"), sort_text)
         self._update_caution()
