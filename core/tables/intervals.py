@@ -16,6 +16,7 @@ from core.sampling import (
     interval_caption,
     result_intervals,
 )
+from core.tables.context import COMPLEMENT_TEXT
 from core.tables.result import Cell, TableResult
 
 # Tables whose percentages are shares of counted people: frequency tables (rating items
@@ -67,7 +68,11 @@ def add_intervals(
     return notes
 
 
-def _cell(limits: list[float] | None) -> Cell:
+def _cell(limits: list[float] | None, answer_row: bool) -> Cell:
+    """A range; on an answer's row a missing range is a hidden one and reads "–" like other
+    hidden cells, never a blank that looks like no data (totals and missing rows have none)."""
+    if limits is None and answer_row:
+        return Cell(None, "number", suppressed=True, text=COMPLEMENT_TEXT)
     return Cell(None, "number", text=interval_text(limits))
 
 
@@ -81,7 +86,7 @@ def _frequency_column(
     for r, row in enumerate(result.rows):
         role = result.row_roles[r] if r < len(result.row_roles) else ""
         limits = intervals.get(next(levels)) if role == "level" else None
-        row.insert(at, _cell(limits))
+        row.insert(at, _cell(limits, role == "level"))
 
 
 def _crosstab_columns(
@@ -98,4 +103,4 @@ def _crosstab_columns(
         for r, row in enumerate(result.rows):
             role = result.row_roles[r] if r < len(result.row_roles) else ""
             limits = intervals.get(next(groups), {}).get(levels[j]) if role == "level" else None
-            row.insert(at, _cell(limits))
+            row.insert(at, _cell(limits, role == "level"))

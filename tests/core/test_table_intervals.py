@@ -135,6 +135,11 @@ def test_crosstab_intervals_within_groups(anes):
     row = cross.rows[cross.data["groups"].index("Strong Republican")]
     assert row[6].display == f"{100 * low:.1f}–{100 * high:.1f}"
     assert all(len(r) == len(cross.columns) for r in cross.rows)
+    # The 3 Dole voters among strong Democrats are hidden (below 5): no range, shown as "–".
+    assert cross.data["counts"]["Strong Democrat"]["Dole"] is None
+    assert cross.data["intervals"]["Strong Democrat"]["Dole"] is None
+    hidden = cross.rows[cross.data["groups"].index("Strong Democrat")][6]
+    assert hidden.suppressed and hidden.display == "–"
     # Column percentages: within each answer, so the base is the answer's total (Dole 393).
     by_col = compute_table(proj, TableSpec("vote", by=("pid",), percent="column", intervals=True))
     low, high = proportion_confint(167, 393, method="wilson")
@@ -152,8 +157,9 @@ def test_hidden_cells_get_no_interval(anes):
     assert result.data["intervals"]["Independent"] is None
     hidden = [lv for lv, n in result.data["counts"].items() if n is None]
     assert len(hidden) == 2
-    for lv in hidden:
-        assert result.rows[PID_LEVELS.index(lv)][3].display == ""
+    for lv in hidden:  # read "–" like every hidden cell, never a blank
+        cell = result.rows[PID_LEVELS.index(lv)][3]
+        assert cell.suppressed and cell.display == "–"
     shown = [lv for lv in PID_LEVELS if lv not in hidden]
     assert all(result.data["intervals"][lv] is not None for lv in shown)
 
