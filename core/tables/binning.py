@@ -13,8 +13,10 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
+from dataclasses import dataclass
 
 import numpy as np
+import pandas as pd
 
 from core.codebook import Variable
 from core.errors import TableError
@@ -109,7 +111,6 @@ def bin_variable(
     default the latest wave); the cut points are then fixed, so later waves use the same
     groups and stay comparable. Recorded as one undoable codebook change.
     """
-    from core.working import working_data
 
     inst = (
         project.instrument(instrument)
@@ -130,13 +131,7 @@ def bin_variable(
             f"The codebook already has a variable called {new_name!r}; choose another name."
         )
     # The answers decide equal-width and quantile cuts, and whether labels can be whole numbers.
-    x = np.array([])
-    if project.waves(inst.id):
-        work = working_data(project, project.find_wave(wave, inst.id).id)
-        values, reasons = work.analysed()
-        if source in values.columns:
-            col = values[source].to_numpy(dtype=float)
-            x = col[reasons[source].isna().to_numpy() & ~np.isnan(col)]
+    x = answered_values(project, inst.id, source, wave)
     whole = bool(np.all(np.mod(x, 1) == 0)) if x.size else True
     points = cut_points_for(x, method, n_groups=n_groups, cuts=cuts)
     names = list(labels) if labels else group_labels(points, whole)
@@ -166,6 +161,68 @@ def bin_variable(
         label=f"Group {source} into {len(names)} categories ({how})",
     )
     return var
+
+
+def answered_values(
+    project: Project, instrument_id: int, source: str, wave: str | None = None
+) -> np.ndarray:
+    """The cleaned, answered values of ``source`` in ``wave`` (default: the latest wave).
+
+    Working data, not the raw table: corrections and exclusions from the ledger count,
+    missing codes do not. Empty when the instrument has no wave yet.
+    """
+    from core.working import working_data
+
+    if not project.waves(instrument_id):
+        return np.array([])
+    work = working_data(project, project.find_wave(wave, instrument_id).id)
+    values, reasons = work.analysed()
+    if source not in values.columns:
+        return np.array([])
+    col = pd.to_numeric(values[source], errors="coerce").to_numpy(dtype=float, na_value=np.nan)
+    return col[reasons[source].isna().to_numpy() & ~np.isnan(col)]
+
+
+@dataclass(frozen=True)
+class GroupPreview:
+    """The groups a grouping would make, with how many answers fall in each."""
+
+    cut_points: tuple[float, ...]
+    labels: tuple[str, ...]
+    counts: tuple[int, ...]
+    n_answered: int
+
+    def to_json(self) -> dict:
+        return {
+            "cut_points": list(self.cut_points),
+            "groups": [{"label": label, "count": n} for label, n in zip(self.labels, self.counts)],
+            "n_answered": self.n_answered,
+        }
+
+
+def preview_groups(
+    x: np.ndarray,
+    method: str = "cuts",
+    *,
+    cuts: Sequence[float] = (),
+    n_groups: int = 4,
+) -> GroupPreview:
+    """Cut points, labels and counts for answered values ``x``, the way ``bin_variable`` does.
+
+    Pure, so a window can show the groups live as the evaluator changes the method.
+    """
+    x = np.asarray(x, dtype=float)
+    x = x[~np.isnan(x)]
+    whole = bool(np.all(np.mod(x, 1) == 0)) if x.size else True
+    points = cut_points_for(x, method, n_groups=n_groups, cuts=cuts)
+    labels = group_labels(points, whole)
+    counts = np.bincount(bin_values(x, points), minlength=len(labels)) if x.size else None
+    return GroupPreview(
+        cut_points=points,
+        labels=tuple(labels),
+        counts=tuple(int(n) for n in counts) if counts is not None else (0,) * len(labels),
+        n_answered=int(x.size),
+    )
 
 
 def _instrument_with(project: Project, source: str):  # noqa: ANN202 - Instrument
