@@ -58,8 +58,8 @@ from core.project import Changes
 from desktopapp.icons import BLUE, kind_icon
 from desktopapp.project_tree import NodeType, TreeNode
 from desktopapp.views import ViewContext, muted_label, section_label, title_label
+from desktopapp.widgets.question_list import NAME_ROLE, named_items, select_named
 
-NAME_ROLE = Qt.ItemDataRole.UserRole
 NO_GROUP = "(not in a group)"
 
 
@@ -618,11 +618,7 @@ class CodebookView(QWidget):
         return self.codebook().get(self._current) if self._current else None
 
     def select_variable(self, name: str) -> bool:
-        for item in self._variable_items():
-            if item.data(0, NAME_ROLE) == name:
-                self.variable_tree.setCurrentItem(item)
-                return True
-        return False
+        return select_named(self.variable_tree, name)
 
     # ------------------------------------------------------------------ change funnel
     def change_variable(
@@ -680,14 +676,8 @@ class CodebookView(QWidget):
         return next(iter(self._variable_items()), None)
 
     def _variable_items(self) -> list[QTreeWidgetItem]:
-        out = []
-        for i in range(self.variable_tree.topLevelItemCount()):
-            top = self.variable_tree.topLevelItem(i)
-            if top.data(0, NAME_ROLE):
-                out.append(top)
-            for j in range(top.childCount()):
-                out.append(top.child(j))
-        return out
+        # Every variable row carries its name; a group heading carries none.
+        return named_items(self.variable_tree)
 
     def _update_list(self) -> None:
         codebook = self.codebook()

@@ -57,7 +57,6 @@ from PySide6.QtWidgets import (
     QHeaderView,
     QLabel,
     QLineEdit,
-    QPushButton,
     QScrollArea,
     QSpinBox,
     QSplitter,
@@ -79,8 +78,9 @@ from core.tables.spec import TableSpec
 from desktopapp.icons import kind_icon
 from desktopapp.project_tree import NodeType, TreeNode
 from desktopapp.views import ViewContext, muted_label, section_label
+from desktopapp.widgets.question_list import NAME_ROLE, filter_tree, named_items, select_named
+from desktopapp.widgets.result_panel import keep_copy_row
 
-NAME_ROLE = Qt.ItemDataRole.UserRole
 NO_BREAKDOWN = "No break-down"
 # Where the methods guide lives in a source checkout (the window links into it).
 METHODS_GUIDE = Path(__file__).resolve().parents[2] / "docs" / "methods.md"
@@ -617,35 +617,22 @@ class TabulationView(QWidget):
         self.chart.canvas.installEventFilter(self)
 
         # ---- keep and copy
-        self.finding_edit = QLineEdit()
-        self.finding_edit.setObjectName("findingEdit")
-        self.finding_edit.setPlaceholderText(
-            "The finding in one sentence, e.g. “Most participants found the course relevant.”"
+        self.keep_row = keep_copy_row(
+            prefix="",
+            finding_example="Most participants found the course relevant.",
+            keep_tip=(
+                "Add this table and its chart to the report outline, with the finding sentence. "
+                "The numbers are recomputed when the data change."
+            ),
+            chart_tip=(
+                "Put the chart on the clipboard as a 1920 × 1080 picture, with the table's base "
+                "and notes underneath."
+            ),
         )
-        self.keep_button = QPushButton("Keep for report")
-        self.keep_button.setObjectName("keepButton")
-        self.keep_button.setToolTip(
-            "Add this table and its chart to the report outline, with the finding sentence. "
-            "The numbers are recomputed when the data change."
-        )
-        self.copy_table_button = QPushButton("Copy table")
-        self.copy_table_button.setObjectName("copyTableButton")
-        self.copy_table_button.setToolTip(
-            "Put the table on the clipboard: pastes as an editable table, with caption and notes."
-        )
-        self.copy_chart_button = QPushButton("Copy chart")
-        self.copy_chart_button.setObjectName("copyChartButton")
-        self.copy_chart_button.setToolTip(
-            "Put the chart on the clipboard as a 1920 × 1080 picture, with the table's base "
-            "and notes underneath."
-        )
-        bottom = QHBoxLayout()
-        bottom.addWidget(QLabel("Finding"))
-        bottom.addWidget(self.finding_edit, 1)
-        bottom.addWidget(self.keep_button)
-        bottom.addSpacing(12)
-        bottom.addWidget(self.copy_table_button)
-        bottom.addWidget(self.copy_chart_button)
+        self.finding_edit, self.keep_button = self.keep_row.finding_edit, self.keep_row.keep_button
+        self.copy_table_button = self.keep_row.copy_table_button
+        self.copy_chart_button = self.keep_row.copy_chart_button
+        bottom = self.keep_row.layout
 
         self._results = QWidget()
         self._results.setObjectName("tabulationResults")
@@ -771,11 +758,7 @@ class TabulationView(QWidget):
     # ------------------------------------------------------------------ public controls
     def select_variable(self, name: str) -> bool:
         """Select a question or question group by name (False if it is not listed)."""
-        for item in self._selectable_items():
-            if item.data(0, NAME_ROLE) == name:
-                self.variable_tree.setCurrentItem(item)
-                return True
-        return False
+        return select_named(self.variable_tree, name)
 
     def set_breakdown(self, *names: str) -> None:
         """Break the table down by up to two questions (no names: no break-down)."""
@@ -874,37 +857,19 @@ class TabulationView(QWidget):
         return f"{entry.question or entry.name}\n{entry.kind.label}"
 
     def _selectable_items(self) -> list[QTreeWidgetItem]:
-        out = []
-        for i in range(self.variable_tree.topLevelItemCount()):
-            top = self.variable_tree.topLevelItem(i)
-            out.append(top)
-            for j in range(top.childCount()):
-                child = top.child(j)
-                if child.data(0, NAME_ROLE):
-                    out.append(child)
-        return out
+        return named_items(self.variable_tree)
 
     def _first_selectable(self) -> QTreeWidgetItem | None:
         items = self._selectable_items()
         return items[0] if items else None
 
     def _apply_search(self) -> None:
-        words = self.search_edit.text().lower().split()
+        has_words = bool(self.search_edit.text().split())
         entries = {e.name: e for e in self._entries}
-        for i in range(self.variable_tree.topLevelItemCount()):
-            top = self.variable_tree.topLevelItem(i)
+        for top, any_child in filter_tree(self.variable_tree, self.search_edit.text()):
             entry = entries.get(top.data(0, NAME_ROLE))
-            own = f"{top.text(0)} {top.toolTip(0)}".lower()
-            any_child = False
-            for j in range(top.childCount()):
-                child = top.child(j)
-                text = f"{child.text(0)} {child.toolTip(0)}".lower()
-                hit = all(w in text or w in own for w in words)
-                child.setHidden(not hit)
-                any_child = any_child or hit
-            top.setHidden(bool(words) and not (all(w in own for w in words) or any_child))
             if entry is not None and entry.is_group:
-                top.setExpanded(bool(words) and any_child)
+                top.setExpanded(has_words and any_child)
 
     def _on_search_edit_changed(self, _text: str) -> None:
         self._apply_search()
@@ -1224,13 +1189,7 @@ class TabulationView(QWidget):
         self._filling = False
         self._rendered = None
         self.chart.set_drawer(None, "")
-        for widget in (
-            self.keep_button,
-            self.copy_table_button,
-            self.copy_chart_button,
-            self.finding_edit,
-        ):
-            widget.setEnabled(False)
+        self.keep_row.set_enabled(False)
         self.result_changed.emit(None)
 
     # ------------------------------------------------------------------ methods guide

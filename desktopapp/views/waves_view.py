@@ -72,8 +72,9 @@ from desktopapp.views.tabulation_view import (
     table_mime,
     tabulation_entries,
 )
+from desktopapp.widgets.question_list import NAME_ROLE, filter_tree, named_items, select_named
+from desktopapp.widgets.result_panel import keep_copy_row
 
-NAME_ROLE = Qt.ItemDataRole.UserRole
 CAUTION_COLOUR = "#8a4b00"
 HIDDEN = "–"
 HIDDEN_TIP = (
@@ -466,34 +467,21 @@ class WavesView(QWidget):
         self.chart.canvas.setFocusPolicy(Qt.FocusPolicy.StrongFocus)
         self.chart.canvas.setToolTip("Click the chart, then press Ctrl+C to copy it as a picture.")
 
-        self.finding_edit = QLineEdit()
-        self.finding_edit.setObjectName("wavesFindingEdit")
-        self.finding_edit.setPlaceholderText(
-            "The finding in one sentence, e.g. “More participants were satisfied in 2027.”"
+        self.keep_row = keep_copy_row(
+            prefix="waves",
+            finding_example="More participants were satisfied in 2027.",
+            keep_tip=(
+                "Add this comparison and its chart to the report outline, with the finding "
+                "sentence. The numbers are recomputed when the data change."
+            ),
+            chart_tip=(
+                "Put the chart on the clipboard as a 1920 × 1080 picture, with the base underneath."
+            ),
         )
-        self.keep_button = QPushButton("Keep for report")
-        self.keep_button.setObjectName("wavesKeepButton")
-        self.keep_button.setToolTip(
-            "Add this comparison and its chart to the report outline, with the finding "
-            "sentence. The numbers are recomputed when the data change."
-        )
-        self.copy_table_button = QPushButton("Copy table")
-        self.copy_table_button.setObjectName("wavesCopyTableButton")
-        self.copy_table_button.setToolTip(
-            "Put the table on the clipboard: pastes as an editable table, with caption and notes."
-        )
-        self.copy_chart_button = QPushButton("Copy chart")
-        self.copy_chart_button.setObjectName("wavesCopyChartButton")
-        self.copy_chart_button.setToolTip(
-            "Put the chart on the clipboard as a 1920 × 1080 picture, with the base underneath."
-        )
-        bottom = QHBoxLayout()
-        bottom.addWidget(QLabel("Finding"))
-        bottom.addWidget(self.finding_edit, 1)
-        bottom.addWidget(self.keep_button)
-        bottom.addSpacing(12)
-        bottom.addWidget(self.copy_table_button)
-        bottom.addWidget(self.copy_chart_button)
+        self.finding_edit, self.keep_button = self.keep_row.finding_edit, self.keep_row.keep_button
+        self.copy_table_button = self.keep_row.copy_table_button
+        self.copy_chart_button = self.keep_row.copy_chart_button
+        bottom = self.keep_row.layout
 
         results = QWidget()
         results.setObjectName("comparisonResults")
@@ -777,11 +765,7 @@ class WavesView(QWidget):
 
     def select_variable(self, name: str) -> bool:
         """Select a question on the Side by side tab (False if it is not listed)."""
-        for item in self._selectable_items():
-            if item.data(0, NAME_ROLE) == name:
-                self.variable_tree.setCurrentItem(item)
-                return True
-        return False
+        return select_named(self.variable_tree, name)
 
     def select_transition(self, name: str) -> bool:
         """Choose the ordered question of the transition table (False if not offered)."""
@@ -936,32 +920,13 @@ class WavesView(QWidget):
         return item
 
     def _selectable_items(self) -> list[QTreeWidgetItem]:
-        out = []
-        for i in range(self.variable_tree.topLevelItemCount()):
-            top = self.variable_tree.topLevelItem(i)
-            if top.data(0, NAME_ROLE):
-                out.append(top)
-            for j in range(top.childCount()):
-                child = top.child(j)
-                if child.data(0, NAME_ROLE):
-                    out.append(child)
-        return out
+        return named_items(self.variable_tree)
 
     def _apply_search(self) -> None:
-        words = self.search_edit.text().lower().split()
-        for i in range(self.variable_tree.topLevelItemCount()):
-            top = self.variable_tree.topLevelItem(i)
-            own = f"{top.text(0)} {top.toolTip(0)}".lower()
-            any_child = False
-            for j in range(top.childCount()):
-                child = top.child(j)
-                text = f"{child.text(0)} {child.toolTip(0)}".lower()
-                hit = all(w in text or w in own for w in words)
-                child.setHidden(not hit)
-                any_child = any_child or hit
-            top.setHidden(bool(words) and not (all(w in own for w in words) or any_child))
+        has_words = bool(self.search_edit.text().split())
+        for top, any_child in filter_tree(self.variable_tree, self.search_edit.text()):
             if top.childCount():
-                top.setExpanded(any_child or not words)
+                top.setExpanded(any_child or not has_words)
 
     def _fill_transition_questions(self) -> None:
         keep = self.transition_combo.currentData()
@@ -1096,13 +1061,7 @@ class WavesView(QWidget):
             )
         self.wording_label.setVisible(bool(wording))
         self.pane.show_result(result, "waves", [n for n in result.notes if n not in wording])
-        for widget in (
-            self.keep_button,
-            self.copy_table_button,
-            self.copy_chart_button,
-            self.finding_edit,
-        ):
-            widget.setEnabled(True)
+        self.keep_row.set_enabled(True)
 
     def _set_status(self, text: str) -> None:
         self.status_label.setText(text)
@@ -1119,13 +1078,7 @@ class WavesView(QWidget):
         self.wording_label.hide()
         self._set_status(text)
         self.pane.show_result(None, None)
-        for widget in (
-            self.keep_button,
-            self.copy_table_button,
-            self.copy_chart_button,
-            self.finding_edit,
-        ):
-            widget.setEnabled(False)
+        self.keep_row.set_enabled(False)
 
     def _on_keep_button_clicked(self) -> None:
         spec = self.keep_spec()
