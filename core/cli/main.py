@@ -20,6 +20,7 @@ COMMAND_MODULES = [
     "core.cli.table_commands",
     "core.cli.sampling_commands",
     "core.cli.wave_commands",
+    "core.cli.group_commands",
 ]
 
 
