@@ -27,7 +27,7 @@ from PySide6.QtWidgets import (
 
 from core.checks.flag import CHECK_LABELS
 from core.checks.settings import OUTLIER_METHODS, QUANTILE_TYPES, CheckSettings
-from desktopapp.errors import message_for, show_error
+from desktopapp.errors import failure_text, message_for
 from desktopapp.views import muted_label
 
 ERROR_COLOUR = "#B3261E"
@@ -197,7 +197,4 @@ class CheckSettingsDialog(QDialog):
         self.accept()
 
     def _on_failed(self, exc: BaseException) -> None:
-        text, details = message_for(exc)
-        if details:
-            show_error(self, exc)
-        self.error_label.setText(text)
+        self.error_label.setText(failure_text(self, exc))

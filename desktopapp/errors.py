@@ -53,6 +53,30 @@ def show_error(parent: QWidget | None, exc: BaseException, title: str = "Plainco
     box.open()
 
 
+def failure_text(parent: QWidget | None, exc: BaseException) -> str:
+    """The plain sentence to show beside the control whose work failed.
+
+    An unexpected failure also opens the message box with its details, so a programming
+    error is never reduced to one calm line nobody can report.
+    """
+    text, details = message_for(exc)
+    if details:
+        show_error(parent, exc)
+    return text
+
+
+def console_text(exc: BaseException) -> str:
+    """The plain sentence for a failure shown in place of a result; details go to the console.
+
+    Used where a message box would interrupt for something the pane already says (a table
+    or chart that cannot be computed), while the traceback still reaches whoever runs it.
+    """
+    text, details = message_for(exc)
+    if details:
+        print(details, file=sys.stderr)
+    return text
+
+
 def _excepthook(
     exc_type: type[BaseException], exc: BaseException, tb: TracebackType | None
 ) -> None:

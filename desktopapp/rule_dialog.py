@@ -39,7 +39,7 @@ from core.codebook import Codebook, Variable
 from core.errors import RuleError
 from core.kinds import Kind
 from core.rules import ORDER_OPS, PRESENCE_OPS, Condition, Rule, parse_rule, validate_rule
-from desktopapp.errors import message_for, show_error
+from desktopapp.errors import failure_text, message_for
 from desktopapp.views import muted_label, section_label
 
 OP_WORDS = {
@@ -462,10 +462,7 @@ class RuleDialog(QDialog):
         self._say("Rule removed (Edit ▸ Undo brings it back).", None)
 
     def _on_write_failed(self, exc: BaseException) -> None:
-        text, details = message_for(exc)
-        if details:
-            show_error(self, exc)
-        self._say(text, False)
+        self._say(failure_text(self, exc), False)
 
     def _selected_rule(self) -> int | None:
         item = self.rule_list.currentItem()
@@ -638,10 +635,7 @@ class RecodeDialog(QDialog):
         self.accept()
 
     def _on_failed(self, exc: BaseException) -> None:
-        text, details = message_for(exc)
-        if details:
-            show_error(self, exc)
-        self.error_label.setText(text)
+        self.error_label.setText(failure_text(self, exc))
 
 
 __all__ = ["ConditionRow", "RecodeDialog", "RuleDialog", "split_values"]

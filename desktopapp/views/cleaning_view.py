@@ -43,7 +43,7 @@ from core.checks import Flag
 from core.kinds import Kind
 from core.ledger import Action, Decision
 from core.project import Changes
-from desktopapp.errors import message_for, show_error
+from desktopapp.errors import failure_text
 from desktopapp.models.cells import (
     EDITED_BACKGROUND,
     FLAGGED_BACKGROUND,
@@ -563,10 +563,7 @@ class CleaningView(QWidget):
             self._on_selection_changed()
 
     def _on_load_failed(self, exc: BaseException) -> None:
-        text, details = message_for(exc)
-        if details:
-            show_error(self, exc)
-        self.summary_label.setText(text)
+        self.summary_label.setText(failure_text(self, exc))
 
     def _update_summary(self) -> None:
         flags = self.run.flags if self.run is not None else []
@@ -1030,10 +1027,7 @@ class CleaningView(QWidget):
 
     def _on_decision_failed(self, exc: BaseException, where: QLabel) -> None:
         self._advance_keys = None
-        text, details = message_for(exc)
-        if details:
-            show_error(self, exc)
-        where.setText(text)
+        where.setText(failure_text(self, exc))
 
     def _show_batch(self, flags: list[Flag]) -> None:
         open_ = [f for f in flags if f.decided_by is None]

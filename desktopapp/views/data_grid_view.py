@@ -29,7 +29,7 @@ from PySide6.QtWidgets import (
 )
 
 from core.project import Changes
-from desktopapp.errors import message_for, show_error
+from desktopapp.errors import failure_text
 from desktopapp.models.cells import (
     EDITED_BACKGROUND,
     EDITED_MARK,
@@ -231,10 +231,7 @@ class DataGridView(QWidget):
         self._update_summary()
 
     def _on_load_failed(self, exc: BaseException) -> None:
-        text, details = message_for(exc)
-        if details:
-            show_error(self, exc)
-        self.summary_label.setText(text)
+        self.summary_label.setText(failure_text(self, exc))
 
     def _update_summary(self) -> None:
         model = self.model

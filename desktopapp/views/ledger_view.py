@@ -27,7 +27,7 @@ from PySide6.QtWidgets import (
 
 from core.checks.flag import CHECK_LABELS
 from core.project import Changes
-from desktopapp.errors import message_for, show_error
+from desktopapp.errors import failure_text, message_for
 from desktopapp.models.ledger import COLUMNS, LedgerModel
 from desktopapp.project_tree import NodeType, TreeNode
 from desktopapp.views import ViewContext, muted_label, title_label
@@ -300,7 +300,4 @@ class LedgerView(QWidget):
         )
 
     def _on_write_failed(self, exc: BaseException) -> None:
-        text, details = message_for(exc)
-        if details:
-            show_error(self, exc)
-        self.note_label.setText(text)
+        self.note_label.setText(failure_text(self, exc))

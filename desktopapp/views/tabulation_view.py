@@ -1165,14 +1165,9 @@ class TabulationView(QWidget):
         return super().eventFilter(watched, event)
 
     def _on_table_failed(self, exc: BaseException) -> None:
-        from desktopapp.errors import message_for
+        from desktopapp.errors import console_text
 
-        text, details = message_for(exc)
-        if details:
-            import sys
-
-            print(details, file=sys.stderr)
-        self._show_empty(text)
+        self._show_empty(console_text(exc))
 
     def _show_empty(self, text: str) -> None:
         self._result = None

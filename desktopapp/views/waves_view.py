@@ -1598,11 +1598,6 @@ def _transition_summary(tr: Any) -> str:
 
 def _plain(exc: BaseException) -> str:
     """The plain sentence for a failure; an unexpected one's details go to the console."""
-    from desktopapp.errors import message_for
+    from desktopapp.errors import console_text
 
-    text, details = message_for(exc)
-    if details:
-        import sys
-
-        print(details, file=sys.stderr)
-    return text
+    return console_text(exc)

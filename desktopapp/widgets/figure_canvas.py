@@ -16,7 +16,6 @@ core uses for 1920-pixel exports come out at ordinary screen-text sizes.
 
 from __future__ import annotations
 
-import sys
 import warnings
 from collections.abc import Callable
 from typing import Any
@@ -27,7 +26,7 @@ from PySide6.QtCore import QSize, Qt, QTimer
 from PySide6.QtGui import QColor, QImage, QPainter, QPalette, QResizeEvent
 from PySide6.QtWidgets import QLabel, QSizePolicy, QStackedLayout, QWidget
 
-from desktopapp.errors import message_for
+from desktopapp.errors import console_text
 
 Drawer = Callable[[Figure], None]
 SCREEN_DPI = 72
@@ -153,9 +152,7 @@ class FigureCanvasWidget(QWidget):
             self._drawer(self.figure)
         except Exception as exc:  # noqa: BLE001 - shown in words in place of the chart
             self.error = exc
-            text, details = message_for(exc)
-            if details:
-                print(details, file=sys.stderr)
+            text = console_text(exc)
             self.figure.clear()
             self.show_message(text)
             return False
