@@ -44,6 +44,7 @@ from core.kinds import Kind, MissingReason
 from core.project import Project, Wave
 from desktopapp.errors import message_for
 from desktopapp.icons import kind_icon
+from desktopapp.views import bold_label, escape_rich
 from desktopapp.workers import BackgroundRunner, Job
 
 SPREADSHEETS = (".xlsx", ".xlsm", ".xlsb", ".xls", ".ods")
@@ -244,7 +245,7 @@ class ImportDialog(QDialog):
 
         is_sheet = self.path.suffix.lower() in SPREADSHEETS
 
-        heading = QLabel(f"Import <b>{_escape(self.path.name)}</b>")
+        heading = QLabel(f"Import <b>{escape_rich(self.path.name)}</b>")
         heading_font = heading.font()
         heading_font.setPointSizeF(heading_font.pointSizeF() * 1.3)
         heading.setFont(heading_font)
@@ -295,11 +296,11 @@ class ImportDialog(QDialog):
         target_form.addRow("", self.target_note)
         forms = QHBoxLayout()
         read_box = QVBoxLayout()
-        read_box.addWidget(_bold("How to read the file"))
+        read_box.addWidget(bold_label("How to read the file"))
         read_box.addLayout(read_form)
         read_box.addStretch(1)
         target_box = QVBoxLayout()
-        target_box.addWidget(_bold("Where the data goes"))
+        target_box.addWidget(bold_label("Where the data goes"))
         target_box.addLayout(target_form)
         target_box.addStretch(1)
         forms.addLayout(read_box, 1)
@@ -343,13 +344,13 @@ class ImportDialog(QDialog):
         preview_box = QWidget()
         pv = QVBoxLayout(preview_box)
         pv.setContentsMargins(0, 0, 0, 0)
-        pv.addWidget(_bold("The first rows, exactly as they will be read"))
+        pv.addWidget(bold_label("The first rows, exactly as they will be read"))
         pv.addWidget(self.preview_table, 1)
         pv.addWidget(self.preview_note)
         columns_box = QWidget()
         cv = QVBoxLayout(columns_box)
         cv.setContentsMargins(0, 0, 0, 0)
-        cv.addWidget(_bold("What each column holds"))
+        cv.addWidget(bold_label("What each column holds"))
         cv.addWidget(self.columns_note)
         cv.addWidget(self.columns_table, 1)
         splitter = QSplitter(Qt.Orientation.Vertical)
@@ -855,12 +856,3 @@ def _choice_combo(choices: list[tuple[str, Any]], name: str) -> QComboBox:
     for text, value in choices:
         combo.addItem(text, value)
     return combo
-
-
-def _escape(text: str) -> str:
-    return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
-
-
-def _bold(text: str) -> QLabel:
-    label = QLabel(f"<b>{text}</b>")
-    return label

@@ -50,7 +50,7 @@ from PySide6.QtWidgets import (
 from core import response_rates as rr
 from core import sampling
 from core.errors import PlaincountError
-from desktopapp.views import muted_label, section_label
+from desktopapp.views import escape_rich, muted_label, section_label
 
 CAUTION_COLOUR = "#a33f00"
 MAX_COUNT = 100_000_000
@@ -614,7 +614,8 @@ class SamplingDialog(QDialog):
             self.ss_assumed.setText(
                 "<table cellspacing='0' cellpadding='2'>"
                 + "".join(
-                    f"<tr><td>{_escape(label)}</td><td align='right'>&nbsp;&nbsp;{value}</td></tr>"
+                    f"<tr><td>{escape_rich(label)}</td>"
+                    f"<td align='right'>&nbsp;&nbsp;{value}</td></tr>"
                     for label, value in rows
                 )
                 + "</table>"
@@ -819,10 +820,6 @@ class SamplingDialog(QDialog):
         from desktopapp.errors import message_for
 
         self.count_note.setText(message_for(exc)[0])
-
-
-def _escape(text: str) -> str:
-    return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
 
 
 def _caption_word(name: str) -> str:

@@ -33,6 +33,7 @@ from PySide6.QtWidgets import (
 
 from core.codebook import Codebook
 from core.wavematch import MATCHED, NEW, RENAMED, UNCERTAIN, MatchReport, match_wave
+from desktopapp.views import bold_label, escape_rich
 
 NEW_QUESTION = ""  # combo data of "Add as a new question"
 LEAVE = ""  # combo data of "Leave as it is"
@@ -67,7 +68,7 @@ class WaveMatchDialog(QDialog):
         self.setWindowTitle("Check how the new wave lines up with the codebook")
         self.resize(1100, 700)
 
-        heading = QLabel(f"<b>Wave {_escape(wave_label)}: how its columns line up</b>")
+        heading = QLabel(f"<b>Wave {escape_rich(wave_label)}: how its columns line up</b>")
         font = heading.font()
         font.setPointSizeF(font.pointSizeF() * 1.2)
         heading.setFont(font)
@@ -125,13 +126,13 @@ class WaveMatchDialog(QDialog):
         top = QWidget()
         tv = QVBoxLayout(top)
         tv.setContentsMargins(0, 0, 0, 0)
-        tv.addWidget(_bold("Columns"))
+        tv.addWidget(bold_label("Columns"))
         tv.addWidget(self.columns_table, 1)
         tv.addWidget(self.missing_label)
         bottom_box = QWidget()
         bv = QVBoxLayout(bottom_box)
         bv.setContentsMargins(0, 0, 0, 0)
-        bv.addWidget(_bold("Answers worded differently from the codebook"))
+        bv.addWidget(bold_label("Answers worded differently from the codebook"))
         bv.addWidget(self.levels_table, 1)
         splitter = QSplitter(Qt.Orientation.Vertical)
         splitter.addWidget(top)
@@ -383,11 +384,3 @@ def _item(text: str) -> QTableWidgetItem:
     item.setFlags(item.flags() & ~Qt.ItemFlag.ItemIsEditable)
     item.setToolTip(text)
     return item
-
-
-def _bold(text: str) -> QLabel:
-    return QLabel(f"<b>{text}</b>")
-
-
-def _escape(text: str) -> str:
-    return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")

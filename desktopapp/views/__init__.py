@@ -109,3 +109,19 @@ def muted_label(text: str, wrap: bool = True) -> Any:
     label.setWordWrap(wrap)
     label.setForegroundRole(QPalette.ColorRole.PlaceholderText)
     return label
+
+
+def bold_label(text: str) -> Any:
+    """A bold caption above a table or list inside a dialog (rich text, so ``text`` is markup)."""
+    from PySide6.QtWidgets import QLabel
+
+    return QLabel(f"<b>{text}</b>")
+
+
+def escape_rich(text: str) -> str:
+    """``text`` made safe inside a label's rich text.
+
+    Only the three characters that open markup or entities are replaced; quotes stay as they
+    are, since labels never put text inside an attribute.
+    """
+    return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")

@@ -64,7 +64,7 @@ from core.export.report import check_outline, export_outline, file_names
 from core.project import Changes
 from core.tables.result import TableResult
 from desktopapp.project_tree import NodeType, TreeNode
-from desktopapp.views import ViewContext, muted_label, section_label, title_label
+from desktopapp.views import ViewContext, escape_rich, muted_label, section_label, title_label
 
 ID_ROLE = Qt.ItemDataRole.UserRole
 WARNING_ROLE = Qt.ItemDataRole.UserRole + 1
@@ -1088,7 +1088,7 @@ class ExportView(QWidget):
         elif warnings:
             self.warnings_label.setText(
                 "".join(
-                    f"<p style='margin:0 0 4px 0; color:{CAUTION_COLOUR}'>⚠ {_escape(w)}</p>"
+                    f"<p style='margin:0 0 4px 0; color:{CAUTION_COLOUR}'>⚠ {escape_rich(w)}</p>"
                     for w in warnings
                 )
             )
@@ -1215,13 +1215,13 @@ class ExportView(QWidget):
         folder = self.folder()
         text = (
             f"<b>Exported {len(self.last_files)} file"
-            f"{'s' if len(self.last_files) != 1 else ''}</b> into {_escape(str(folder))}."
+            f"{'s' if len(self.last_files) != 1 else ''}</b> into {escape_rich(str(folder))}."
         )
         # Warnings already listed under "Before you export" are not repeated.
         news = [w for w in self.last_warnings if _prospective(w) not in self.shown_warnings]
         if news:
             text += "".join(
-                f"<br><span style='color:{CAUTION_COLOUR}'>⚠ {_escape(w)}</span>" for w in news
+                f"<br><span style='color:{CAUTION_COLOUR}'>⚠ {escape_rich(w)}</span>" for w in news
             )
         self.done_label.setText(text)
         self.files_list.clear()
@@ -1249,7 +1249,7 @@ class ExportView(QWidget):
             return
         self.done_label.setText(
             f"<span style='color:{CAUTION_COLOUR}'>The export did not finish. "
-            f"{_escape(text)}</span>"
+            f"{escape_rich(text)}</span>"
         )
         self.files_list.clear()
         self.files_list.hide()
@@ -1347,7 +1347,3 @@ def _example_finding(result: TableResult) -> str:
 def _preview_key(item: outline.OutlineItem) -> tuple[Any, ...]:
     # What the preview depends on: the title is drawn on the chart; the spec gives the numbers.
     return (item.id, item.title, json.dumps(item.spec.to_json(), sort_keys=True))
-
-
-def _escape(text: str) -> str:
-    return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")

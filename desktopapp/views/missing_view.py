@@ -76,7 +76,7 @@ from core.missing import (
 from core.project import Changes
 from desktopapp.errors import message_for, show_error
 from desktopapp.project_tree import NodeType, TreeNode
-from desktopapp.views import ViewContext, muted_label, section_label, title_label
+from desktopapp.views import ViewContext, escape_rich, muted_label, section_label, title_label
 from desktopapp.widgets.figure_canvas import FigureCanvasWidget
 
 SORT_ROLE = Qt.ItemDataRole.UserRole
@@ -891,7 +891,7 @@ class MissingDataView(QWidget):
 
     def _show_paragraphs(self, paragraphs: list[str]) -> None:
         self.paragraphs = list(paragraphs)
-        html = "".join(f"<p style='margin-bottom:10px'>{_escape(p)}</p>" for p in paragraphs)
+        html = "".join(f"<p style='margin-bottom:10px'>{escape_rich(p)}</p>" for p in paragraphs)
         self.words.setHtml(html)
         # Beside the threshold: the paragraph that names the marked items and the caution.
         note = next((p for p in paragraphs if THRESHOLD_SOURCE in p), None)
@@ -1044,8 +1044,8 @@ class MissingDataView(QWidget):
     def _set_breakdown_text(self, test: str, notes: list[str]) -> None:
         self.breakdown_test = test
         self.breakdown_notes = "\n\n".join(notes)
-        html = f"<p>{_escape(test)}</p>" + "".join(
-            f"<p style='color:#5f6368'>{_escape(n)}</p>" for n in notes
+        html = f"<p>{escape_rich(test)}</p>" + "".join(
+            f"<p style='color:#5f6368'>{escape_rich(n)}</p>" for n in notes
         )
         self.breakdown_text.setHtml(html)
 
@@ -1351,10 +1351,6 @@ def _first_sentence(text: str) -> str:
 
 def _p_text(p: float) -> str:
     return "< 0.001" if p < 0.001 else f"= {p:.3f}"
-
-
-def _escape(text: str) -> str:
-    return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
 
 
 def _totals_text(ov: Overview) -> str:

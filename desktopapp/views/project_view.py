@@ -20,7 +20,7 @@ from PySide6.QtWidgets import (
 from core.project import Changes
 from desktopapp.project_tree import NodeType, TreeNode
 from desktopapp.undo import HistoryListWidget, local_time
-from desktopapp.views import ViewContext, muted_label, section_label, title_label
+from desktopapp.views import ViewContext, escape_rich, muted_label, section_label, title_label
 
 
 def register(registry: Any) -> None:
@@ -124,13 +124,13 @@ class ProjectView(QWidget):
         for inst in instruments:
             waves = project.waves(inst.id)
             codebook = project.codebook(inst.id)
-            name = QLabel(f"<b>{_escape(inst.name)}</b> — {len(codebook)} variables")
+            name = QLabel(f"<b>{escape_rich(inst.name)}</b> — {len(codebook)} variables")
             self._data_box.addWidget(name)
             if not waves:
                 self._data_box.addWidget(muted_label("No waves imported yet."))
             for wave in waves:
                 line = QLabel(
-                    f"Wave {_escape(wave.label)}: {wave.n_rows:,} respondents, "
+                    f"Wave {escape_rich(wave.label)}: {wave.n_rows:,} respondents, "
                     f"{wave.n_columns} columns"
                 )
                 line.setContentsMargins(16, 0, 0, 0)
@@ -144,7 +144,3 @@ class ProjectView(QWidget):
 
     def _on_import_button_clicked(self) -> None:
         self._context.import_requested(None, None)
-
-
-def _escape(text: str) -> str:
-    return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
