@@ -57,6 +57,7 @@ from PySide6.QtWidgets import (
     QHeaderView,
     QLabel,
     QLineEdit,
+    QPushButton,
     QScrollArea,
     QSpinBox,
     QSplitter,
@@ -453,6 +454,11 @@ class TabulationView(QWidget):
         lv.addWidget(section_label("Question"))
         lv.addWidget(self.search_edit)
         lv.addWidget(self.variable_tree, 1)
+        self.group_button = QPushButton("Group into categories…")
+        self.group_button.setObjectName("groupButton")
+        self.group_button.setToolTip("Make a new variable of ranges, such as age groups.")
+        self.group_button.clicked.connect(self.open_grouping)
+        lv.addWidget(self.group_button)
         lv.addSpacing(6)
         lv.addWidget(section_label("Break down by"))
         lv.addWidget(self.by_combo)
@@ -964,6 +970,7 @@ class TabulationView(QWidget):
         if family in ("categorical", "likert"):  # frequency tables and cross-tabulations
             visible.add("intervals")
         self._visible_options = visible
+        self.group_button.setVisible(var is not None and var.kind is Kind.NUMERIC)
         for key, (label, widget) in self._option_rows.items():
             shown = key in visible
             label.setVisible(shown)
@@ -1340,6 +1347,29 @@ class TabulationView(QWidget):
             self.show_gallery()
 
         return [("tables-gallery", gallery)]
+
+    def open_grouping(self, _checked: bool = False, *, show: bool = True) -> Any:
+        """Open "Group into categories…" for the chosen number question."""
+        from desktopapp.grouping_dialog import GroupingDialog, open_grouping_dialog
+
+        name = self.current_variable()
+        var = self.codebook().get(name) if name else None
+        if var is None or var.kind is not Kind.NUMERIC:
+            return None
+        args = (self.project, self._context.runner, self.instrument_id, var.name, self.wave_id)
+        if not show:
+            return GroupingDialog(*args, parent=self)
+        dialog = open_grouping_dialog(self, *args)
+        dialog.accepted.connect(lambda: self.select_variable(dialog.new_name()))
+        return dialog
+
+    def screenshot_dialogs(self) -> list[tuple[str, Any]]:
+        """The grouping dialog on age, with cut points an evaluator might choose."""
+        if not self.select_variable("age"):
+            return []
+        dialog = self.open_grouping(show=False)
+        dialog.set_method("cuts", "25, 35, 45")
+        return [("grouping", dialog)]
 
     def shutdown(self) -> None:
         self._chart_resize.stop()
