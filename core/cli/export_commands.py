@@ -11,17 +11,9 @@ import argparse
 
 from core import outline
 from core.cli.common import emit_json, opened, print_rows
+from core.cli.table_options import add_table_options, spec_from_args
 from core.errors import PlaincountError
 from core.export.report import FORMATS, export_outline
-from core.tables.spec import (
-    BORDA_RULES,
-    MISSING_ROWS,
-    PERCENT_BASES,
-    SD_FORMULAS,
-    SORTS,
-    TREATMENTS,
-    TableSpec,
-)
 
 
 def register(sub: argparse._SubParsersAction) -> None:
@@ -33,7 +25,7 @@ def register(sub: argparse._SubParsersAction) -> None:
     )
     p.add_argument("project", help="the project file")
     p.add_argument("variable", help="a variable or question-group name")
-    add_table_options(p)
+    add_table_options(p, wave_help="wave label (default: the latest wave at export time)")
     p.add_argument("--chart", metavar="TYPE", help="show the result as this chart type")
     p.add_argument(
         "--finding",
@@ -76,105 +68,6 @@ def register(sub: argparse._SubParsersAction) -> None:
     )
     p.add_argument("--json", action="store_true", help="print the files written as JSON")
     p.set_defaults(func=_export)
-
-
-def add_table_options(p: argparse.ArgumentParser) -> None:
-    """The table options of ``keep``: the same names and meanings as the ``table`` command's.
-
-    Defaults are left to :class:`TableSpec`, so a kept table is the table ``table`` prints.
-    """
-    p.add_argument(
-        "--by",
-        action="append",
-        default=[],
-        metavar="VARIABLE",
-        help="break the table down by this category question (twice to nest)",
-    )
-    p.add_argument(
-        "--percent",
-        choices=PERCENT_BASES,
-        help="percentages within each group (row, default), answer (column) or total",
-    )
-    p.add_argument("--wave", help="wave label (default: the latest wave at export time)")
-    p.add_argument("--instrument", help="instrument name (when several have this question)")
-    p.add_argument("--treatment", choices=TREATMENTS, help="treatment of missing data")
-    p.add_argument(
-        "--complete-items",
-        metavar="VAR,VAR,...",
-        help="with --treatment complete: the items a respondent must have answered",
-    )
-    p.add_argument(
-        "--missing-rows",
-        choices=MISSING_ROWS,
-        help="with --treatment show-missing: one row per reason, or one in all",
-    )
-    p.add_argument(
-        "--min-cell",
-        type=int,
-        metavar="N",
-        help="hide counts below N (default: the project setting; 0 = off)",
-    )
-    p.add_argument("--sd", choices=SD_FORMULAS, help="standard deviation formula")
-    p.add_argument("--borda", choices=BORDA_RULES, help="rule for partial rankings")
-    p.add_argument(
-        "--points",
-        metavar="P1,P2,...",
-        help="Borda points for 1st, 2nd, ... place (default n-1 down to 0)",
-    )
-    p.add_argument("--sort", choices=SORTS, help="order answers as asked or by frequency")
-    p.add_argument("--tests", action="store_true", help="add a chi-square test (samples only)")
-    p.add_argument(
-        "--intervals",
-        action="store_true",
-        help="add margins of error to the percentages (waves marked as a sample)",
-    )
-    p.add_argument(
-        "--show-mean",
-        action="store_true",
-        help="add the mean of codes to a rating scale (treats answers as equally spaced)",
-    )
-    p.add_argument(
-        "--pct-of-all", action="store_true", help="add a column of percentages of all respondents"
-    )
-
-
-def spec_from_args(args: argparse.Namespace) -> TableSpec:
-    """A table spec from the options of :func:`add_table_options` (and ``--chart``)."""
-    options: dict[str, object] = {
-        "by": tuple(args.by or ()),
-        "complete_items": _split(args.complete_items),
-        "tests": args.tests,
-        "show_mean": args.show_mean,
-        "pct_of_all": args.pct_of_all,
-        "intervals": args.intervals,
-    }
-    if args.points:
-        try:
-            options["borda_points"] = tuple(float(x) for x in _split(args.points))
-        except ValueError:
-            raise PlaincountError(
-                "--points takes numbers separated by commas, e.g. 3,2,1,0."
-            ) from None
-    for name in (
-        "percent",
-        "wave",
-        "instrument",
-        "treatment",
-        "missing_rows",
-        "min_cell",
-        "sd",
-        "borda",
-        "sort",
-        "chart",
-    ):
-        value = getattr(args, name, None)
-        if value is not None:
-            options[name] = value
-    return TableSpec(args.variable, **options)
-
-
-def _split(text: str | None) -> tuple[str, ...]:
-    return tuple(t.strip() for t in (text or "").split(",") if t.strip())
 
 
 def _keep(args: argparse.Namespace) -> int:

@@ -7,9 +7,9 @@ import math
 from typing import Any
 
 from core.cli.common import emit_json, opened, print_rows
+from core.cli.table_options import add_table_options, spec_from_args
 from core.tables.build import compute_table
 from core.tables.result import TableResult
-from core.tables.spec import PERCENT_BASES, TREATMENTS, TableSpec
 
 
 def register(sub: argparse._SubParsersAction) -> None:
@@ -23,88 +23,7 @@ def register(sub: argparse._SubParsersAction) -> None:
         help="variable name, or a question group name (a battery, a "
         "ranking or a choose-all-that-apply question)",
     )
-    p.add_argument(
-        "--by",
-        action="append",
-        default=[],
-        metavar="VARIABLE",
-        help="break the table down by this category question (twice to nest)",
-    )
-    p.add_argument(
-        "--percent",
-        choices=PERCENT_BASES,
-        default="row",
-        help="percentages within each group (row, default), within each answer "
-        "(column) or of the total",
-    )
-    p.add_argument("--wave", help="wave label (default: the latest wave)")
-    p.add_argument("--instrument", help="instrument name (when several have this question)")
-    p.add_argument(
-        "--treatment",
-        choices=TREATMENTS,
-        default="available",
-        help="missing data: available cases (default), complete cases, single "
-        "imputation, or missing shown as rows",
-    )
-    p.add_argument(
-        "--complete-items",
-        metavar="VAR,VAR,...",
-        help="with --treatment complete: the items a respondent must have answered",
-    )
-    p.add_argument(
-        "--missing-rows",
-        choices=("reason", "combined"),
-        default="reason",
-        help="with --treatment show-missing: one row per reason, or one in all",
-    )
-    p.add_argument(
-        "--min-cell",
-        type=int,
-        metavar="N",
-        help="hide counts below N (default: the project setting; 0 = off)",
-    )
-    p.add_argument(
-        "--sd",
-        choices=("population", "sample"),
-        default="population",
-        help="standard deviation formula (default population: dividing by n)",
-    )
-    p.add_argument(
-        "--borda",
-        choices=("zero", "average", "modified"),
-        default="zero",
-        help="rule for partial rankings (default: unranked options score 0)",
-    )
-    p.add_argument(
-        "--points",
-        metavar="P1,P2,...",
-        help="Borda points for 1st, 2nd, ... place (default n-1 down to 0)",
-    )
-    p.add_argument(
-        "--sort",
-        choices=("level", "frequency"),
-        default="level",
-        help="order answers as in the questionnaire (default) or by frequency / % agreeing",
-    )
-    p.add_argument(
-        "--tests",
-        action="store_true",
-        help="add a chi-square test and Cramér's V (for samples only)",
-    )
-    p.add_argument(
-        "--intervals",
-        action="store_true",
-        help="add 95%% margins of error (Wilson score intervals) to the percentages, for a "
-        "wave marked as a sample; a whole-population wave gets a note saying why there are none",
-    )
-    p.add_argument(
-        "--show-mean",
-        action="store_true",
-        help="add the mean of codes to a rating scale (treats answers as equally spaced)",
-    )
-    p.add_argument(
-        "--pct-of-all", action="store_true", help="add a column of percentages of all respondents"
-    )
+    add_table_options(p)
     p.add_argument(
         "--compare-waves",
         metavar="W1,W2,...",
@@ -114,39 +33,8 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.set_defaults(func=_table)
 
 
-def _split(text: str | None) -> tuple[str, ...]:
-    return tuple(t.strip() for t in (text or "").split(",") if t.strip())
-
-
 def _table(args: argparse.Namespace) -> int:
-    from core.errors import TableError
-
-    points: tuple[float, ...] = ()
-    if args.points:
-        try:
-            points = tuple(float(x) for x in _split(args.points))
-        except ValueError:
-            raise TableError("--points takes numbers separated by commas, e.g. 3,2,1,0.") from None
-    spec = TableSpec(
-        variable=args.variable,
-        wave=args.wave,
-        instrument=args.instrument,
-        by=tuple(args.by),
-        percent=args.percent,
-        treatment=args.treatment,
-        complete_items=_split(args.complete_items),
-        missing_rows=args.missing_rows,
-        min_cell=args.min_cell,
-        sort=args.sort,
-        sd=args.sd,
-        show_mean=args.show_mean,
-        borda=args.borda,
-        borda_points=points,
-        tests=args.tests,
-        pct_of_all=args.pct_of_all,
-        intervals=args.intervals,
-        compare_waves=_split(args.compare_waves),
-    )
+    spec = spec_from_args(args)
     with opened(args.project) as project:
         result = compute_table(project, spec)
     if args.json:
