@@ -373,6 +373,20 @@ class CodebookView(QWidget):
         lv.addWidget(self.search_edit)
         lv.addWidget(self.variable_tree, 1)
         lv.addWidget(self.count_label)
+        self.export_button = QPushButton("Export codebook…")
+        self.export_button.setObjectName("exportCodebookButton")
+        self.export_button.setToolTip("Save this codebook as a JSON file to reuse elsewhere.")
+        self.apply_file_button = QPushButton("Apply a codebook file…")
+        self.apply_file_button.setObjectName("applyCodebookButton")
+        self.apply_file_button.setToolTip(
+            "Take answer lists, missing codes and other settings from a codebook file, for "
+            "the variables it shares with this one (one step, undoable)."
+        )
+        file_buttons = QHBoxLayout()
+        file_buttons.addWidget(self.export_button)
+        file_buttons.addWidget(self.apply_file_button)
+        file_buttons.addStretch(1)
+        lv.addLayout(file_buttons)
 
         # ---- details
         self.name_label = title_label("")
@@ -521,6 +535,16 @@ class CodebookView(QWidget):
         dv.addLayout(missing_buttons)
         dv.addSpacing(6)
         dv.addWidget(self.range_section)
+        self.group_button = QPushButton("Group into categories…")
+        self.group_button.setObjectName("groupButton")
+        self.group_button.setToolTip("Make a new variable of ranges, such as age groups.")
+        group_row = QHBoxLayout()
+        group_row.addWidget(self.group_button)
+        group_row.addStretch(1)
+        self.group_section = QWidget()
+        self.group_section.setLayout(group_row)
+        group_row.setContentsMargins(0, 0, 0, 0)
+        dv.addWidget(self.group_section)
         dv.addWidget(self.keying_section)
         dv.addSpacing(6)
         dv.addWidget(section_label("Privacy"))
@@ -605,6 +629,9 @@ class CodebookView(QWidget):
         self.keying_group.idClicked.connect(self._on_keying_group_clicked)
         self.personal_check.clicked.connect(self._on_personal_check_clicked)
         self.wave_combo.currentIndexChanged.connect(self._on_wave_combo_changed)
+        self.group_button.clicked.connect(self.open_grouping)
+        self.export_button.clicked.connect(lambda: self.file_actions.export())
+        self.apply_file_button.clicked.connect(lambda: self.file_actions.apply())
 
     # ------------------------------------------------------------------ data access
     @property
@@ -777,6 +804,7 @@ class CodebookView(QWidget):
             self._update_missing_height()
             numeric = var.kind in (Kind.NUMERIC, Kind.RANKING)
             self.range_section.setVisible(numeric)
+            self.group_section.setVisible(var.kind is Kind.NUMERIC)
             lo, hi = var.range if var.range is not None else (None, None)
             self.range_min_edit.setText("" if lo is None else _num_plain(lo))
             self.range_max_edit.setText("" if hi is None else _num_plain(hi))
@@ -1063,6 +1091,34 @@ class CodebookView(QWidget):
             )
         else:
             self.preview_missing.setText("Every respondent gave a usable answer.")
+
+    # ------------------------------------------------------------------ grouping, files
+    def open_grouping(self) -> Any:
+        """Open "Group into categories…" for the selected number question."""
+        from desktopapp.grouping_dialog import open_grouping_dialog
+
+        var = self.current_variable()
+        if var is None or var.kind is not Kind.NUMERIC:
+            return None
+        dialog = open_grouping_dialog(
+            self,
+            self.project,
+            self._context.runner,
+            self.instrument_id,
+            var.name,
+            self.wave_combo.currentData(),
+        )
+        dialog.accepted.connect(lambda: self.select_variable(dialog.new_name()))
+        return dialog
+
+    @property
+    def file_actions(self) -> Any:
+        """Export and apply codebook files (created on first use)."""
+        if getattr(self, "_file_actions", None) is None:
+            from desktopapp.codebook_files import CodebookFileActions
+
+            self._file_actions = CodebookFileActions(self, self._context, self.instrument_id)
+        return self._file_actions
 
     def shutdown(self) -> None:
         self.variable_tree.blockSignals(True)
