@@ -253,26 +253,9 @@ def _reinstate(project: Project, wave_id: int, ids: list[int]) -> None:
     with project.transaction() as conn:
         for i in ids:
             e = by_id[i]
-            conn.execute(
-                "INSERT INTO ledger(wave_id, action, respondent, row, variables, old_value, "
-                "new_value, check_name, reason, scope, batch, withdraws, created, author) "
-                "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
-                (
-                    wave_id,
-                    Action.WITHDRAW.value,
-                    e.respondent,
-                    e.row,
-                    json.dumps(list(e.variables)),
-                    json.dumps(e.id),
-                    json.dumps("redo"),
-                    None,
-                    "Redone after undo",
-                    e.scope,
-                    e.batch,
-                    -e.id,  # a negative target re-activates the entry
-                    now(),
-                    project.settings().get("author", ""),
-                ),
+            # A negative target re-activates the entry.
+            _insert_withdrawal(
+                conn, project, wave_id, e, -e.id, json.dumps("redo"), "Redone after undo", e.batch
             )
 
 
@@ -284,27 +267,41 @@ def _append_withdrawals(
     with project.transaction() as conn:
         for i in targets:
             e = entries[i]
-            conn.execute(
-                "INSERT INTO ledger(wave_id, action, respondent, row, variables, old_value, "
-                "new_value, check_name, reason, scope, batch, withdraws, created, author) "
-                "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
-                (
-                    wave_id,
-                    Action.WITHDRAW.value,
-                    e.respondent,
-                    e.row,
-                    json.dumps(list(e.variables)),
-                    json.dumps(e.id),
-                    None,
-                    None,
-                    "Undone",
-                    e.scope,
-                    None,
-                    e.id,
-                    now(),
-                    project.settings().get("author", ""),
-                ),
-            )
+            _insert_withdrawal(conn, project, wave_id, e, e.id, None, "Undone", None)
+
+
+def _insert_withdrawal(
+    conn: Any,
+    project: Project,
+    wave_id: int,
+    e: LedgerEntry,
+    target: int,
+    new_value: str | None,
+    reason: str,
+    batch: str | None,
+) -> None:
+    """Append the withdrawal row aimed at ``target`` (negative: a redo) copying ``e``'s scope."""
+    conn.execute(
+        "INSERT INTO ledger(wave_id, action, respondent, row, variables, old_value, "
+        "new_value, check_name, reason, scope, batch, withdraws, created, author) "
+        "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
+        (
+            wave_id,
+            Action.WITHDRAW.value,
+            e.respondent,
+            e.row,
+            json.dumps(list(e.variables)),
+            json.dumps(e.id),
+            new_value,
+            None,
+            reason,
+            e.scope,
+            batch,
+            target,
+            now(),
+            project.settings().get("author", ""),
+        ),
+    )
 
 
 def _undo_ledger(project: Project, payload: dict[str, Any], undo: bool) -> Changes:
