@@ -213,21 +213,8 @@ def descriptives_table(ctx: Context, name: str) -> TableResult:
     col_stats.append((stats, False, stats["n"]))
     rows: list[list[Cell]] = []
     roles: list[str] = []
-    for key in (
-        "n",
-        "missing",
-        "mean",
-        "median",
-        "modes",
-        "sd",
-        "variance",
-        "min",
-        "max",
-        "range",
-        "q1",
-        "q3",
-        "iqr",
-    ):
+    # The statistics in their usual order, with the missing count after n.
+    for key in ("n", "missing", *STAT_KEYS[1:]):
         if key == "missing" and groups is not None:
             continue
         row = [text_cell(STAT_LABELS[key])]
