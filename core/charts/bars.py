@@ -14,13 +14,13 @@ from matplotlib.patches import Patch
 
 from core.charts import palette, shapes
 from core.charts.style import (
-    HIDDEN_LABEL,
     SUPPRESSED_NOTE,
     Sizes,
     add_legend,
     clean_axes,
     hide_value_axis,
     label_bars,
+    mark_hidden,
     percent_text,
     wrap_label,
 )
@@ -95,18 +95,7 @@ def draw_frequency(
     label_bars(ax, bars, [fmt(h) for h in heights], sizes)
     hidden = [i for i, v in enumerate(values) if v is None]
     for i in hidden:
-        x, y = (0, i) if horizontal else (i, 0)
-        ax.annotate(
-            HIDDEN_LABEL,
-            (x, y),
-            xytext=(4, 0) if horizontal else (0, 4),
-            textcoords="offset points",
-            ha="left" if horizontal else "center",
-            va="center" if horizontal else "bottom",
-            fontsize=sizes.value,
-            fontstyle="italic",
-            color=palette.MUTED_INK,
-        )
+        mark_hidden(ax, i, sizes, horizontal=horizontal)
     notes = [SUPPRESSED_NOTE] if hidden else []
     if not use_pct:
         notes.append("Bars show numbers of respondents.")
@@ -213,17 +202,7 @@ def draw_stacked(
     for i, start in enumerate(starts):
         if start == 0 and all(table[rows[i]].get(lv) is None for lv in lvls):
             # Everything in this group is hidden: say so where its bar would be.
-            ax.annotate(
-                HIDDEN_LABEL,
-                (0, i) if horizontal else (i, 0),
-                xytext=(4, 0) if horizontal else (0, 4),
-                textcoords="offset points",
-                ha="left" if horizontal else "center",
-                va="center" if horizontal else "bottom",
-                fontsize=sizes.value,
-                fontstyle="italic",
-                color=palette.MUTED_INK,
-            )
+            mark_hidden(ax, i, sizes, horizontal=horizontal)
     if horizontal:
         ax.set_yticks(range(len(rows)), row_labels, fontsize=sizes.tick)
         ax.invert_yaxis()

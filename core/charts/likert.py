@@ -22,11 +22,11 @@ from core.charts import palette, shapes
 from core.charts.bars import MIN_LABELLED_SEGMENT, _group_label, level_colours
 from core.charts.style import (
     GLYPH_WIDTH,
-    HIDDEN_LABEL,
     SUPPRESSED_NOTE,
     Sizes,
     add_legend,
     clean_axes,
+    mark_hidden,
     percent_text,
     wrap_label,
 )
@@ -200,17 +200,7 @@ def draw_diverging(result: TableResult, figure: Figure, sizes: Sizes) -> list[st
 
     for i, r in enumerate(rows):
         if all(table[r].get(lv) is None for lv in lvls):
-            ax.annotate(
-                HIDDEN_LABEL,
-                (0, i),
-                xytext=(4, 0),
-                textcoords="offset points",
-                ha="left",
-                va="center",
-                fontsize=sizes.value,
-                fontstyle="italic",
-                color=palette.MUTED_INK,
-            )
+            mark_hidden(ax, i, sizes)
 
     # Totals at both ends: the share disagreeing and the share agreeing.
     for i, r in enumerate(rows):

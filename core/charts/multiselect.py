@@ -6,12 +6,12 @@ from matplotlib.figure import Figure
 
 from core.charts import palette, shapes
 from core.charts.style import (
-    HIDDEN_LABEL,
     SUPPRESSED_NOTE,
     Sizes,
     clean_axes,
     hide_value_axis,
     label_bars,
+    mark_hidden,
     percent_text,
     wrap_label,
 )
@@ -60,17 +60,7 @@ def draw_multiselect(
     label_bars(ax, bars, [percent_text(h) for h in heights], sizes)
     hidden = [i for i, v in enumerate(values) if v is None]
     for i in hidden:
-        ax.annotate(
-            HIDDEN_LABEL,
-            (0, i) if horizontal else (i, 0),
-            xytext=(4, 0) if horizontal else (0, 4),
-            textcoords="offset points",
-            ha="left" if horizontal else "center",
-            va="center" if horizontal else "bottom",
-            fontsize=sizes.value,
-            fontstyle="italic",
-            color=palette.MUTED_INK,
-        )
+        mark_hidden(ax, i, sizes, horizontal=horizontal)
     notes = [MULTI_NOTE]
     if hidden:
         notes.append(SUPPRESSED_NOTE)

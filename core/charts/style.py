@@ -244,6 +244,24 @@ def label_bars(
         )
 
 
+def mark_hidden(ax: Axes, i: int, sizes: Sizes, *, horizontal: bool = True) -> None:
+    """Write "hidden" where category ``i``'s bar would stand.
+
+    A hidden count draws no bar; without the word, the gap would read as nobody answering.
+    """
+    ax.annotate(
+        HIDDEN_LABEL,
+        (0, i) if horizontal else (i, 0),
+        xytext=(4, 0) if horizontal else (0, 4),
+        textcoords="offset points",
+        ha="left" if horizontal else "center",
+        va="center" if horizontal else "bottom",
+        fontsize=sizes.value,
+        fontstyle="italic",
+        color=palette.MUTED_INK,
+    )
+
+
 def add_legend(
     figure: Figure, handles: Sequence[object], labels: Sequence[str], sizes: Sizes
 ) -> None:
