@@ -11,7 +11,7 @@ import datetime as _dt
 import math
 import threading
 import weakref
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable, Iterator, Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -19,7 +19,7 @@ import numpy as np
 import pandas as pd
 
 from core.decoding import cell_texts, format_number
-from core.kinds import MissingReason
+from core.kinds import Kind, MissingReason
 from core.ledger import Action
 
 SEVERITIES = ("error", "warning", "note")
@@ -248,6 +248,23 @@ class Context:
     def wants(self, names: Iterable[str]) -> bool:
         """Whether a check over these variables belongs to this run."""
         return self.only is None or any(n in self.only for n in names)
+
+    def numeric_variables(self) -> Iterator[Any]:
+        """The numeric variables with a column in the data that this run covers."""
+        values = self.working.values
+        for var in self.working.codebook:
+            if var.kind is not Kind.NUMERIC or var.name not in values.columns:
+                continue
+            if self.wants([var.name]):
+                yield var
+
+    def numeric_columns(self) -> Iterator[tuple[Any, np.ndarray]]:
+        """(variable, :meth:`numbers`) for numeric variables with enough answers to judge
+        what is unusual (``settings.min_answers``); the outlier-like checks read these."""
+        for var in self.numeric_variables():
+            x = self.numbers(var.name)
+            if int((~np.isnan(x)).sum()) >= self.settings.min_answers:
+                yield var, x
 
     def respondent(self, row: int) -> str:
         return str(self._ids[row])

@@ -17,7 +17,6 @@ import numpy as np
 
 from core.checks.flag import Context, Flag, Suggestion, show_number
 from core.checks.settings import QUANTILE_TYPES
-from core.kinds import Kind
 from core.ledger import Action
 
 CHECK = "outlier"
@@ -120,16 +119,7 @@ def modified_z(x: np.ndarray, threshold: float = 3.5) -> ModifiedZ:
 def check(ctx: Context) -> list[Flag]:
     settings = ctx.settings
     flags: list[Flag] = []
-    values = ctx.working.values
-    for var in ctx.working.codebook:
-        if var.kind is not Kind.NUMERIC or var.name not in values.columns:
-            continue
-        if not ctx.wants([var.name]):
-            continue
-        x = ctx.numbers(var.name)
-        n = int((~np.isnan(x)).sum())
-        if n < settings.min_answers:
-            continue
+    for var, x in ctx.numeric_columns():
         if settings.outlier_method == "tukey":
             flags += _tukey(ctx, var.name, x, settings)
         else:

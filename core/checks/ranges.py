@@ -95,11 +95,7 @@ def suggest_ranges(codebook: Codebook) -> dict[str, tuple[float, float]]:
 def check(ctx: Context) -> list[Flag]:
     flags: list[Flag] = []
     values, reasons = ctx.working.values, ctx.working.reasons
-    for var in ctx.working.codebook:
-        if var.kind is not Kind.NUMERIC or var.name not in values.columns:
-            continue
-        if not ctx.wants([var.name]):
-            continue
+    for var in ctx.numeric_variables():
         rule = range_rule(var)
         if var.range is not None:
             lo, hi = var.range

@@ -14,7 +14,6 @@ from __future__ import annotations
 import numpy as np
 
 from core.checks.flag import Context, Flag, Suggestion, show_number
-from core.kinds import Kind
 from core.ledger import Action
 
 CHECK = "wandering_zero"
@@ -57,15 +56,7 @@ def candidates(
 
 def check(ctx: Context) -> list[Flag]:
     flags: list[Flag] = []
-    values = ctx.working.values
-    for var in ctx.working.codebook:
-        if var.kind is not Kind.NUMERIC or var.name not in values.columns:
-            continue
-        if not ctx.wants([var.name]):
-            continue
-        x = ctx.numbers(var.name)
-        if int((~np.isnan(x)).sum()) < ctx.settings.min_answers:
-            continue
+    for var, x in ctx.numeric_columns():
         method = ctx.settings.quantile_method
         for row, smaller in candidates(x, method, ctx.quantiles(var.name, method)).items():
             value = float(x[row])
