@@ -91,7 +91,7 @@ class GroupingDialog(QDialog):
         self.error_text = ""
         var = project.codebook(instrument_id)[source]
         self.setWindowTitle(f"Group {source} into categories")
-        self.resize(620, 560)
+        self.resize(620, 480)
 
         heading = section_label(f"Group “{var.label}” into categories")
         heading.setWordWrap(True)
@@ -140,7 +140,7 @@ class GroupingDialog(QDialog):
 
         self.groups_view = FrequencyPreviewWidget()
         self.groups_view.setObjectName("groupsPreview")
-        self.groups_title = QLabel("")
+        self.groups_title = section_label("")
         self.caution_label = QLabel("")
         self.caution_label.setObjectName("groupingCaution")
         self.caution_label.setWordWrap(True)
@@ -194,6 +194,7 @@ class GroupingDialog(QDialog):
         self.create_button.clicked.connect(self.create)
         self._update_enabled()
         self._update_name_note()
+        self.cuts_edit.setFocus()  # Enter then creates; Escape cancels
         if var.kind is not Kind.NUMERIC:
             self._show_error(
                 f"{source} is not a number question, so it cannot be grouped into ranges."
@@ -201,6 +202,13 @@ class GroupingDialog(QDialog):
             self.create_button.setEnabled(False)
             return
         self._load_answers()
+
+    def showEvent(self, event: Any) -> None:  # noqa: N802 - Qt override
+        # The button box hands "default" to the first button it lays out; Enter creates.
+        super().showEvent(event)
+        for button in self.buttons.buttons():
+            button.setAutoDefault(button is self.create_button)
+        self.create_button.setDefault(True)
 
     # ------------------------------------------------------------------ choices
     def method(self) -> str:
