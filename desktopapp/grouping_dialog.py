@@ -62,6 +62,13 @@ def parse_cut_text(text: str) -> list[float]:
         ) from None
 
 
+def plain_number(x: float) -> str:
+    """A cut point as typed into the cut-points box: 25, 1.5, 25000 (no thousands commas,
+    since commas separate the cut points)."""
+    x = float(x)
+    return str(int(x)) if x.is_integer() else f"{x:.10g}"
+
+
 class GroupingDialog(QDialog):
     """Choose how to cut a number question into groups, see the counts, create it."""
 
@@ -89,7 +96,10 @@ class GroupingDialog(QDialog):
         self.current: GroupPreview | None = None
         self.created: Any = None  # the Variable, once created
         self.error_text = ""
-        var = project.codebook(instrument_id)[source]
+        codebook = project.codebook(instrument_id)
+        var = codebook[source]
+        # Opened again on a question already grouped: start from that grouping, to adjust it.
+        earlier = next((v for v in codebook if v.derived_from == source and v.cut_points), None)
         self.setWindowTitle(f"Group {source} into categories")
         self.resize(620, 480)
 
@@ -148,7 +158,7 @@ class GroupingDialog(QDialog):
         self.caution_label.hide()
 
         # ---- name and create
-        self.name_edit = QLineEdit(f"{source}_group")
+        self.name_edit = QLineEdit(earlier.name if earlier else f"{source}_group")
         self.name_edit.setObjectName("groupNameEdit")
         self.name_note = muted_label("")
         self.error_label = QLabel("")
@@ -185,6 +195,8 @@ class GroupingDialog(QDialog):
         layout.addWidget(self.buttons)
 
         self.cuts_radio.setChecked(True)
+        if earlier is not None:
+            self.cuts_edit.setText(", ".join(plain_number(c) for c in earlier.cut_points))
         self.method_group.buttonToggled.connect(self._on_method_toggled)
         self.cuts_edit.textChanged.connect(self.update_preview)
         self.equal_spin.valueChanged.connect(self.update_preview)
@@ -280,7 +292,7 @@ class GroupingDialog(QDialog):
             if not self.cuts_edit.text().strip():
                 # A starting point to edit: the quartiles, as whole numbers where the data are.
                 start = preview_groups(self.answers, METHOD_QUANTILE, n_groups=4)
-                self.cuts_edit.setText(", ".join(format_number(c) for c in start.cut_points))
+                self.cuts_edit.setText(", ".join(plain_number(c) for c in start.cut_points))
         else:
             self.source_label.setText(f"No one answered {self.source} in wave {self.wave_label}.")
         self.update_preview()

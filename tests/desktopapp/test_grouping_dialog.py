@@ -125,3 +125,37 @@ def test_reachable_from_the_tables_and_codebook_views(window, qtbot):
     dialog.reject()
     codebook_view.select_variable("track")
     assert not codebook_view.group_button.isVisibleTo(codebook_view)
+
+
+def test_reopening_starts_from_the_earlier_grouping(window, qtbot):
+    project = window.project
+    inst = project.instrument("Participant survey")
+    first = dialog_for(window, qtbot)
+    first.set_method("cuts", "30, 50")
+    first.create()
+    again = dialog_for(window, qtbot)
+    assert again.name_edit.text() == "age_group" and again.cuts_edit.text() == "30, 50"
+    assert "creating it again replaces its groups" in again.name_note.text()
+    window.undo.undo()
+    assert "age_group" not in project.codebook(inst.id)
+
+
+def test_large_cut_points_keep_no_thousands_commas(qtbot, tmp_path):
+    from core.codebook import Variable
+    from desktopapp.grouping_dialog import plain_number
+    from desktopapp.workers import BackgroundRunner
+    from tests.core.tables_helpers import make_project
+
+    assert [plain_number(x) for x in (25000.0, 1.5, 0.125)] == ["25000", "1.5", "0.125"]
+    frame = pd.DataFrame({"income": [12000, 18500, 26000, 31000, 47000, 52000, 75000, 98000]})
+    with make_project(tmp_path, frame, [Variable("income", "Income", "numeric")]) as p:
+        # A real background runner: the answers arrive on the GUI thread a moment later.
+        runner = BackgroundRunner(None)
+        dialog = GroupingDialog(p, runner, p.instruments()[0].id, "income")
+        qtbot.addWidget(dialog)
+        qtbot.waitUntil(lambda: dialog.current is not None, timeout=10_000)
+        # Quartile starting point by linear interpolation (numpy's default, as pandas.qcut):
+        q = np.quantile(frame["income"], [0.25, 0.5, 0.75])
+        assert dialog.cuts_edit.text() == ", ".join(str(int(np.ceil(v))) for v in q)
+        assert [n for _, n in bars(dialog)] == [2, 2, 2, 2]
+        runner.wait()
