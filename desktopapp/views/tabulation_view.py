@@ -56,14 +56,12 @@ from PySide6.QtWidgets import (
     QHBoxLayout,
     QHeaderView,
     QLabel,
-    QLineEdit,
     QPushButton,
     QScrollArea,
     QSpinBox,
     QSplitter,
     QTableView,
     QTabWidget,
-    QTreeWidget,
     QTreeWidgetItem,
     QVBoxLayout,
     QWidget,
@@ -79,7 +77,14 @@ from core.tables.spec import TableSpec
 from desktopapp.icons import kind_icon
 from desktopapp.project_tree import NodeType, TreeNode
 from desktopapp.views import ViewContext, muted_label, section_label
-from desktopapp.widgets.question_list import NAME_ROLE, filter_tree, named_items, select_named
+from desktopapp.widgets.question_list import (
+    NAME_ROLE,
+    filter_tree,
+    named_items,
+    question_tree,
+    search_box,
+    select_named,
+)
 from desktopapp.widgets.result_panel import keep_copy_row
 
 NO_BREAKDOWN = "No break-down"
@@ -426,16 +431,8 @@ class TabulationView(QWidget):
 
     # ------------------------------------------------------------------ building
     def _build_picker(self) -> None:
-        self.search_edit = QLineEdit()
-        self.search_edit.setObjectName("tabulationSearch")
-        self.search_edit.setPlaceholderText("Find a question by name or wording")
-        self.search_edit.setClearButtonEnabled(True)
-        self.variable_tree = QTreeWidget()
-        self.variable_tree.setObjectName("tabulationVariables")
-        self.variable_tree.setHeaderHidden(True)
-        self.variable_tree.setColumnCount(1)
-        self.variable_tree.setUniformRowHeights(True)
-        self.variable_tree.setTextElideMode(Qt.TextElideMode.ElideRight)
+        self.search_edit = search_box("tabulationSearch", "Find a question by name or wording")
+        self.variable_tree = question_tree("tabulationVariables")
 
         self.by_combo = QComboBox()
         self.by_combo.setObjectName("breakdownCombo")

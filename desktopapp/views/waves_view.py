@@ -37,7 +37,6 @@ from PySide6.QtWidgets import (
     QHBoxLayout,
     QHeaderView,
     QLabel,
-    QLineEdit,
     QPushButton,
     QScrollArea,
     QSpinBox,
@@ -72,7 +71,14 @@ from desktopapp.views.tabulation_view import (
     table_mime,
     tabulation_entries,
 )
-from desktopapp.widgets.question_list import NAME_ROLE, filter_tree, named_items, select_named
+from desktopapp.widgets.question_list import (
+    NAME_ROLE,
+    filter_tree,
+    named_items,
+    question_tree,
+    search_box,
+    select_named,
+)
 from desktopapp.widgets.result_panel import keep_copy_row
 
 CAUTION_COLOUR = "#8a4b00"
@@ -401,16 +407,8 @@ class WavesView(QWidget):
 
     # ------------------------------------------------------------------ building
     def _build_side(self) -> QWidget:
-        self.search_edit = QLineEdit()
-        self.search_edit.setObjectName("wavesSearch")
-        self.search_edit.setPlaceholderText("Find a question by name or wording")
-        self.search_edit.setClearButtonEnabled(True)
-        self.variable_tree = QTreeWidget()
-        self.variable_tree.setObjectName("wavesVariables")
-        self.variable_tree.setHeaderHidden(True)
-        self.variable_tree.setColumnCount(1)
-        self.variable_tree.setUniformRowHeights(True)
-        self.variable_tree.setTextElideMode(Qt.TextElideMode.ElideRight)
+        self.search_edit = search_box("wavesSearch", "Find a question by name or wording")
+        self.variable_tree = question_tree("wavesVariables")
         picker = QWidget()
         picker.setMinimumWidth(200)
         pv = QVBoxLayout(picker)

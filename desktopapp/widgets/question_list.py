@@ -9,10 +9,30 @@ search that list the same way, so the walking lives here once.
 from __future__ import annotations
 
 from PySide6.QtCore import Qt
-from PySide6.QtWidgets import QTreeWidget, QTreeWidgetItem
+from PySide6.QtWidgets import QLineEdit, QTreeWidget, QTreeWidgetItem
 
 #: The item data role that holds a row's question or group name ("" or None: not selectable).
 NAME_ROLE = Qt.ItemDataRole.UserRole
+
+
+def search_box(object_name: str, placeholder: str) -> QLineEdit:
+    """The search box above a question list (filtered as the evaluator types)."""
+    edit = QLineEdit()
+    edit.setObjectName(object_name)
+    edit.setPlaceholderText(placeholder)
+    edit.setClearButtonEnabled(True)
+    return edit
+
+
+def question_tree(object_name: str) -> QTreeWidget:
+    """A one-column question list; long wordings are cut at the right, the name stays."""
+    tree = QTreeWidget()
+    tree.setObjectName(object_name)
+    tree.setHeaderHidden(True)
+    tree.setColumnCount(1)
+    tree.setUniformRowHeights(True)
+    tree.setTextElideMode(Qt.TextElideMode.ElideRight)
+    return tree
 
 
 def named_items(tree: QTreeWidget) -> list[QTreeWidgetItem]:
