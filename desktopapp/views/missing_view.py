@@ -446,51 +446,33 @@ class MissingDataView(QWidget):
         self.words.setObjectName("missingWords")
         self.words.setOpenLinks(False)
         self.words.setFrameShape(QFrame.Shape.NoFrame)
-        page = QWidget()
-        v = QVBoxLayout(page)
-        v.setContentsMargins(0, 8, 0, 0)
-        v.addWidget(
-            muted_label(
-                "The same sentences go into the report's appendix. They follow the threshold "
-                "set on the Items tab."
-            )
+        return _explained_page(
+            "The same sentences go into the report's appendix. They follow the threshold "
+            "set on the Items tab.",
+            self.words,
         )
-        v.addWidget(self.words, 1)
-        return page
 
     def _build_dropoff_tab(self) -> QWidget:
         self.dropoff_chart = FigureCanvasWidget()
         self.dropoff_chart.setObjectName("dropoffChart")
-        page = QWidget()
-        v = QVBoxLayout(page)
-        v.setContentsMargins(0, 8, 0, 0)
-        v.addWidget(
-            muted_label(
-                "The line is the share of respondents still answering at each item (they "
-                "answered it or a later one). The bars are the share who left each item "
-                "unanswered, among those it applied to; a highlighted bar was left unanswered "
-                "far more often than the items around it, which often points to a confusing "
-                "or sensitive question."
-            )
+        return _explained_page(
+            "The line is the share of respondents still answering at each item (they "
+            "answered it or a later one). The bars are the share who left each item "
+            "unanswered, among those it applied to; a highlighted bar was left unanswered "
+            "far more often than the items around it, which often points to a confusing "
+            "or sensitive question.",
+            self.dropoff_chart,
         )
-        v.addWidget(self.dropoff_chart, 1)
-        return page
 
     def _build_matrix_tab(self) -> QWidget:
         self.matrix_chart = FigureCanvasWidget()
         self.matrix_chart.setObjectName("matrixChart")
-        page = QWidget()
-        v = QVBoxLayout(page)
-        v.setContentsMargins(0, 8, 0, 0)
-        v.addWidget(
-            muted_label(
-                "One line per respondent, fewest gaps at the top; one column per item in "
-                "questionnaire order. Coloured cells are missing answers, the colour says why. "
-                "Blocks of colour show gaps that go together."
-            )
+        return _explained_page(
+            "One line per respondent, fewest gaps at the top; one column per item in "
+            "questionnaire order. Coloured cells are missing answers, the colour says why. "
+            "Blocks of colour show gaps that go together.",
+            self.matrix_chart,
         )
-        v.addWidget(self.matrix_chart, 1)
-        return page
 
     def _build_respondents_tab(self) -> QWidget:
         self.respondents_summary = QLabel("")
@@ -1351,6 +1333,16 @@ def _first_sentence(text: str) -> str:
 
 def _p_text(p: float) -> str:
     return "< 0.001" if p < 0.001 else f"= {p:.3f}"
+
+
+def _explained_page(explanation: str, widget: QWidget) -> QWidget:
+    """A tab page: a muted sentence saying how to read ``widget``, then the widget."""
+    page = QWidget()
+    v = QVBoxLayout(page)
+    v.setContentsMargins(0, 8, 0, 0)
+    v.addWidget(muted_label(explanation))
+    v.addWidget(widget, 1)
+    return page
 
 
 def _totals_text(ov: Overview) -> str:
