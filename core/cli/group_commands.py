@@ -65,7 +65,11 @@ def _group(args: argparse.Namespace) -> int:
             instrument=args.instrument,
             wave=args.wave,
         )
-        inst = next(i for i in project.instruments() if var.name in project.codebook(i.id))
+        inst = (
+            project.instrument(args.instrument)
+            if args.instrument
+            else next(i for i in project.instruments() if var.name in project.codebook(i.id))
+        )
         x = answered_values(project, inst.id, args.variable, args.wave)
         preview = preview_groups(x, "cuts", cuts=var.cut_points)
         wave = project.find_wave(args.wave, inst.id).label if project.waves(inst.id) else None

@@ -45,7 +45,16 @@ def run_json(capsys, *argv: str) -> dict:
 
 
 def test_cut_points_match_pandas_cut(project_path, capsys):
-    out = run_json(capsys, "group", str(project_path), "age", "--cuts", "25,35,45")
+    out = run_json(
+        capsys,
+        "group",
+        str(project_path),
+        "age",
+        "--cuts",
+        "25,35,45",
+        "--instrument",
+        "Participant survey",
+    )
     assert out["name"] == "age_group" and out["method"] == "cuts"
     assert out["levels"] == ["Under 25", "25–34", "35–44", "45 and over"]
     # Reference: pandas.cut with right=False (closed at the bottom, open at the top).
