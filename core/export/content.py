@@ -384,14 +384,20 @@ def report_waves(project: Project, entries: list[Entry]) -> list[Wave]:
     return [project.wave(i) for i in ids]
 
 
-def about_rows(project: Project, entries: list[Entry]) -> list[tuple[str, str]]:
-    """Label/value pairs describing an export: project, instruments, waves, date, treatment."""
-    waves = report_waves(project, entries)
-    instruments = []
+def report_instruments(project: Project, waves: list[Wave]) -> list[str]:
+    """The names of the instruments these waves belong to, once each, in wave order."""
+    instruments: list[str] = []
     for w in waves:
         name = project.instrument(w.instrument_id).name
         if name not in instruments:
             instruments.append(name)
+    return instruments
+
+
+def about_rows(project: Project, entries: list[Entry]) -> list[tuple[str, str]]:
+    """Label/value pairs describing an export: project, instruments, waves, date, treatment."""
+    waves = report_waves(project, entries)
+    instruments = report_instruments(project, waves)
     rows = [
         ("Project", project.name),
         ("Instrument", ", ".join(instruments)),

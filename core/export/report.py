@@ -29,6 +29,7 @@ from core.export.content import (
     Paragraph,
     about_rows,
     appendix_blocks,
+    report_instruments,
     report_waves,
     result_blocks,
     spec_variables,
@@ -366,11 +367,7 @@ def _has_kind(project: Project, entry: Entry, kind: Kind) -> bool:
 
 def _titles(project: Project, entries: list[Entry]) -> tuple[str, str]:
     waves = report_waves(project, entries)
-    instruments = []
-    for w in waves:
-        name = project.instrument(w.instrument_id).name
-        if name not in instruments:
-            instruments.append(name)
+    instruments = report_instruments(project, waves)
     label = "waves" if len(waves) > 1 else "wave"
     subtitle = (
         f"{', '.join(instruments)}, {label} {', '.join(w.label for w in waves)}. "
