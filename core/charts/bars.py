@@ -17,6 +17,7 @@ from core.charts.style import (
     SUPPRESSED_NOTE,
     Sizes,
     add_legend,
+    bar_series,
     clean_axes,
     hide_value_axis,
     label_bars,
@@ -75,27 +76,8 @@ def draw_frequency(
     else:
         colours = [palette.SINGLE] * len(lvls)
     ax = figure.add_subplot()
-    shown = [i for i, v in enumerate(values) if v is not None]
-    heights = [values[i] for i in shown]
     fmt = percent_text if use_pct else (lambda v: f"{int(round(v)):,}")
-    top = max(heights, default=1.0) or 1.0
-    if horizontal:
-        bars = ax.barh(shown, heights, color=[colours[i] for i in shown], height=0.7)
-        ax.set_yticks(range(len(lvls)), [wrap_label(lv) for lv in lvls], fontsize=sizes.tick)
-        ax.invert_yaxis()  # first answer at the top, as it is read
-        ax.set_xlim(0, top * 1.15)
-        clean_axes(ax, keep=("left",), ticks=())
-        hide_value_axis(ax, "x")
-    else:
-        bars = ax.bar(shown, heights, color=[colours[i] for i in shown], width=0.7)
-        ax.set_xticks(range(len(lvls)), [wrap_label(lv, 14) for lv in lvls], fontsize=sizes.tick)
-        ax.set_ylim(0, top * 1.15)
-        clean_axes(ax, keep=("bottom",), ticks=())
-        hide_value_axis(ax, "y")
-    label_bars(ax, bars, [fmt(h) for h in heights], sizes)
-    hidden = [i for i, v in enumerate(values) if v is None]
-    for i in hidden:
-        mark_hidden(ax, i, sizes, horizontal=horizontal)
+    hidden = bar_series(ax, lvls, values, colours, sizes, fmt, horizontal=horizontal)
     notes = [SUPPRESSED_NOTE] if hidden else []
     if not use_pct:
         notes.append("Bars show numbers of respondents.")

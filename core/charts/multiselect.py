@@ -8,12 +8,8 @@ from core.charts import palette, shapes
 from core.charts.style import (
     SUPPRESSED_NOTE,
     Sizes,
-    clean_axes,
-    hide_value_axis,
-    label_bars,
-    mark_hidden,
+    bar_series,
     percent_text,
-    wrap_label,
 )
 from core.tables.result import TableResult
 
@@ -39,28 +35,8 @@ def draw_multiselect(
     options, values = sorted_options(result)
     shapes.require(bool(options), "This question has no options to draw.")
     ax = figure.add_subplot()
-    shown = [i for i, v in enumerate(values) if v is not None]
-    heights = [values[i] for i in shown]
-    top = max(heights, default=1.0) or 1.0
-    if horizontal:
-        bars = ax.barh(shown, heights, height=0.7, color=palette.SINGLE)
-        ax.set_yticks(range(len(options)), [wrap_label(o) for o in options], fontsize=sizes.tick)
-        ax.invert_yaxis()
-        ax.set_xlim(0, top * 1.15)
-        clean_axes(ax, keep=("left",), ticks=())
-        hide_value_axis(ax, "x")
-    else:
-        bars = ax.bar(shown, heights, width=0.7, color=palette.SINGLE)
-        ax.set_xticks(
-            range(len(options)), [wrap_label(o, 14) for o in options], fontsize=sizes.tick
-        )
-        ax.set_ylim(0, top * 1.15)
-        clean_axes(ax, keep=("bottom",), ticks=())
-        hide_value_axis(ax, "y")
-    label_bars(ax, bars, [percent_text(h) for h in heights], sizes)
-    hidden = [i for i, v in enumerate(values) if v is None]
-    for i in hidden:
-        mark_hidden(ax, i, sizes, horizontal=horizontal)
+    colours = [palette.SINGLE] * len(options)
+    hidden = bar_series(ax, options, values, colours, sizes, percent_text, horizontal=horizontal)
     notes = [MULTI_NOTE]
     if hidden:
         notes.append(SUPPRESSED_NOTE)

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import re
 import textwrap
-from collections.abc import Iterable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass
 
 from matplotlib.axes import Axes
@@ -260,6 +260,44 @@ def mark_hidden(ax: Axes, i: int, sizes: Sizes, *, horizontal: bool = True) -> N
         fontstyle="italic",
         color=palette.MUTED_INK,
     )
+
+
+def bar_series(
+    ax: Axes,
+    names: Sequence[str],
+    values: Sequence[float | None],
+    colours: Sequence[str],
+    sizes: Sizes,
+    fmt: Callable[[float], str],
+    *,
+    horizontal: bool,
+) -> list[int]:
+    """One bar per category with its value written at the end, and no value axis.
+
+    A hidden value (None) draws no bar but the word "hidden". Horizontal bars run top to
+    bottom in the order given, as the categories are read. Returns the hidden positions.
+    """
+    shown = [i for i, v in enumerate(values) if v is not None]
+    heights = [values[i] for i in shown]
+    top = max(heights, default=1.0) or 1.0
+    if horizontal:
+        bars = ax.barh(shown, heights, color=[colours[i] for i in shown], height=0.7)
+        ax.set_yticks(range(len(names)), [wrap_label(n) for n in names], fontsize=sizes.tick)
+        ax.invert_yaxis()  # first category at the top, as it is read
+        ax.set_xlim(0, top * 1.15)
+        clean_axes(ax, keep=("left",), ticks=())
+        hide_value_axis(ax, "x")
+    else:
+        bars = ax.bar(shown, heights, color=[colours[i] for i in shown], width=0.7)
+        ax.set_xticks(range(len(names)), [wrap_label(n, 14) for n in names], fontsize=sizes.tick)
+        ax.set_ylim(0, top * 1.15)
+        clean_axes(ax, keep=("bottom",), ticks=())
+        hide_value_axis(ax, "y")
+    label_bars(ax, bars, [fmt(h) for h in heights], sizes)
+    hidden = [i for i, v in enumerate(values) if v is None]
+    for i in hidden:
+        mark_hidden(ax, i, sizes, horizontal=horizontal)
+    return hidden
 
 
 def add_legend(
