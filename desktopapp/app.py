@@ -60,6 +60,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     from PySide6.QtWidgets import QApplication
 
     from desktopapp import APP_NAME, ORGANISATION
+    from desktopapp.clipboard_exit import release_clipboard
     from desktopapp.errors import install_excepthook
     from desktopapp.icons import app_icon
 
@@ -73,6 +74,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     opener = _FileOpenFilter(window)
     app.installEventFilter(opener)
     code = app.exec()
+    release_clipboard(app)
     del window
     return int(code)
 

@@ -25,6 +25,20 @@ def _isolated_qsettings(tmp_path_factory):
     yield
 
 
+@pytest.fixture(autouse=True)
+def _empty_clipboard_after_test():
+    """Leave no Python-made clipboard data behind, as the app does when it closes (see
+    desktopapp/clipboard_exit.py): otherwise the test run can crash after its last test."""
+    yield
+    from PySide6.QtWidgets import QApplication
+
+    from desktopapp.clipboard_exit import release_clipboard
+
+    app = QApplication.instance()
+    if app is not None:
+        release_clipboard(app)
+
+
 def small_frame() -> pd.DataFrame:
     """Twelve invented respondents; counts are easy to check by eye."""
     return pd.DataFrame(
