@@ -147,6 +147,9 @@ def draw_clustered(result: TableResult, figure: Figure, sizes: Sizes) -> list[st
     return notes
 
 
+HIDDEN_SHARE_LABEL = "Hidden answers (small counts)"
+
+
 def draw_stacked(
     figure: Figure,
     sizes: Sizes,
@@ -181,8 +184,26 @@ def draw_stacked(
         handles.append(Patch(facecolor=colours[k]))
         labels = [percent_text(v) if v >= MIN_LABELLED_SEGMENT else "" for v in vals]
         label_bars(ax, bars, labels, sizes, inside=True, colours=[colours[k]] * len(vals))
+    hidden_rows = [
+        i
+        for i, r in enumerate(rows)
+        if any(table[r].get(lv) is None for lv in lvls) and 0 < starts[i] < 99.95
+    ]
+    if hidden_rows:
+        # Shares add to 100 %: the hidden answers together fill the rest of the bar, drawn as
+        # one hatched block so each bar still reaches 100 %. Their total is already readable
+        # from the table (100 % minus the rest); no single hidden answer is drawn.
+        rest = [100.0 - starts[i] for i in hidden_rows]
+        base = [starts[i] for i in hidden_rows]
+        style = {"facecolor": "white", "edgecolor": palette.GREY, "hatch": "///", "linewidth": 0}
+        if horizontal:
+            ax.barh(hidden_rows, rest, left=base, height=0.7, **style)
+        else:
+            ax.bar(hidden_rows, rest, bottom=base, width=0.7, **style)
+        handles.append(Patch(**style))
+        lvls = [*lvls, HIDDEN_SHARE_LABEL]
     for i, start in enumerate(starts):
-        if start == 0 and all(table[rows[i]].get(lv) is None for lv in lvls):
+        if start == 0 and all(table[rows[i]].get(lv) is None for lv in lvls[: len(colours)]):
             # Everything in this group is hidden: say so where its bar would be.
             mark_hidden(ax, i, sizes, horizontal=horizontal)
     if horizontal:

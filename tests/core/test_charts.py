@@ -369,7 +369,15 @@ def test_stacked100_adds_to_100_within_each_group():
     for p in bar_patches(ax):
         x = round(p.get_x() + p.get_width() / 2, 3)
         tops[x] = max(tops.get(x, 0.0), p.get_y() + p.get_height())
-    assert tops == {0.0: 100.0, 1.0: 100.0, 2.0: 80.0}  # Summer "No" is hidden, not drawn
+    # Summer "No" is hidden: not drawn as an answer, but the bar still reaches 100 % with a
+    # hatched "hidden answers" block of the 20 % the table leaves unaccounted for.
+    assert tops == {0.0: 100.0, 1.0: 100.0, 2.0: 100.0}
+    hatched = [p for p in bar_patches(ax) if p.get_hatch()]
+    assert [(round(p.get_x() + p.get_width() / 2, 3), p.get_height()) for p in hatched] == [
+        (2.0, pytest.approx(20.0))
+    ]
+    legend = [t.get_text() for t in ax.get_legend().get_texts()]
+    assert legend[-1].replace("\n", " ") == "Hidden answers (small counts)"
 
 
 def test_stacked100_with_answer_percents_recomputes_share_within_group():
@@ -729,7 +737,9 @@ def test_clustered_chart_through_compute_table(anes_project):
     # hidden and that bar is not drawn.
     hidden = compute_table(anes_project, TableSpec("vote", by=("PID",)))
     fig = figure_for(hidden, "stacked100")
-    first_group = [p for p in bar_patches(fig.axes[0]) if abs(p.get_x() + 0.35) < 1e-9]
+    first_group = [
+        p for p in bar_patches(fig.axes[0]) if abs(p.get_x() + 0.35) < 1e-9 and not p.get_hatch()
+    ]
     assert len(first_group) < 2
     assert SUPPRESSED_NOTE in footer(fig).replace("\n", " ")
 
