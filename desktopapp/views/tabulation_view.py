@@ -28,7 +28,6 @@ from typing import Any
 
 from PySide6.QtCore import (
     QEvent,
-    QMimeData,
     Qt,
     QTimer,
     QUrl,
@@ -40,7 +39,6 @@ from PySide6.QtGui import (
     QColor,
     QDesktopServices,
     QFont,
-    QImage,
     QKeySequence,
     QPalette,
     QStandardItem,
@@ -85,7 +83,12 @@ from desktopapp.widgets.question_list import (
     search_box,
     select_named,
 )
-from desktopapp.widgets.result_panel import keep_copy_row
+from desktopapp.widgets.result_panel import (
+    keep_copy_row,
+    kept_message,
+    put_chart_on_clipboard,
+    put_table_on_clipboard,
+)
 
 NO_BREAKDOWN = "No break-down"
 # Where the methods guide lives in a source checkout (the window links into it).
@@ -234,35 +237,6 @@ def methods_url(table_type: str) -> QUrl:
 
 
 # ---------------------------------------------------------------------- clipboard
-def table_mime(result: TableResult) -> QMimeData:
-    """The table as HTML (an editable table when pasted) and as tab-separated text."""
-    from core.export.clipboard import table_html, table_text
-
-    mime = QMimeData()
-    mime.setHtml(table_html(result))
-    mime.setText(table_text(result))
-    return mime
-
-
-def chart_caption(result: TableResult) -> str:
-    """The plain-text caption put on the clipboard with a chart: title, then the base."""
-    lines = [result.title] if result.title else []
-    if result.base:
-        lines.append(result.base)
-    return "\n".join(lines) + "\n"
-
-
-def chart_mime(result: TableResult, png: bytes) -> QMimeData:
-    """A chart as a PNG (plus a bitmap for programs that want one) and its caption."""
-    mime = QMimeData()
-    mime.setData("image/png", png)
-    image = QImage.fromData(png, "PNG")
-    if not image.isNull():
-        mime.setImageData(image)
-    mime.setText(chart_caption(result))
-    return mime
-
-
 # ---------------------------------------------------------------------- the table model
 class ResultTableModel(QStandardItemModel):
     """The display table of a :class:`TableResult`: one item per result cell.
@@ -1239,8 +1213,7 @@ class TabulationView(QWidget):
     def _on_kept(self, kept: tuple[str, str]) -> None:
         title, finding = kept
         self.finding_edit.clear()
-        hint = "" if finding else " Add its finding sentence in the report outline."
-        self._message(f"Kept “{short_title(title, 60)}” for the report.{hint}")
+        self._message(kept_message(title, finding))
 
     def _message(self, text: str) -> None:
         self.last_message = text
@@ -1260,8 +1233,7 @@ class TabulationView(QWidget):
         result = self._result
         if result is None:
             return False
-        QApplication.clipboard().setMimeData(table_mime(result))
-        self._message("Copied the table. Paste it into a slide or document as a table.")
+        put_table_on_clipboard(result, self._message)
         return True
 
     def copy_chart(self) -> bool:
@@ -1269,18 +1241,8 @@ class TabulationView(QWidget):
         result, chart_type = self._result, self._chart_type
         if result is None or chart_type is None:
             return False
-
-        def work(_progress: Any) -> bytes:
-            from core.export.clipboard import chart_png
-
-            return chart_png(result, chart_type)
-
-        def done(png: bytes) -> None:
-            QApplication.clipboard().setMimeData(chart_mime(result, png))
-            self._message("Copied the chart as a picture.")
-
-        self._context.runner.run(
-            work, on_success=done, key=f"copy-chart:{id(self)}", label="Drawing the chart…"
+        put_chart_on_clipboard(
+            self._context.runner, result, chart_type, f"copy-chart:{id(self)}", self._message
         )
         return True
 

@@ -66,9 +66,7 @@ from desktopapp.views.tabulation_view import (
     Entry,
     ResultTableModel,
     ResultTableView,
-    chart_mime,
     result_without_notes,
-    table_mime,
     tabulation_entries,
 )
 from desktopapp.widgets.question_list import (
@@ -79,7 +77,12 @@ from desktopapp.widgets.question_list import (
     search_box,
     select_named,
 )
-from desktopapp.widgets.result_panel import keep_copy_row
+from desktopapp.widgets.result_panel import (
+    keep_copy_row,
+    kept_message,
+    put_chart_on_clipboard,
+    put_table_on_clipboard,
+)
 
 CAUTION_COLOUR = "#8a4b00"
 HIDDEN = "–"
@@ -1093,8 +1096,7 @@ class WavesView(QWidget):
 
         def done(_item_id: int) -> None:
             self.finding_edit.clear()
-            hint = "" if finding else " Add its finding sentence in the report outline."
-            self._message(f"Kept “{short_title(title, 60)}” for the report.{hint}")
+            self._message(kept_message(title, finding))
 
         self._context.runner.run(
             work,
@@ -1115,8 +1117,7 @@ class WavesView(QWidget):
         """Put the comparison on the clipboard as HTML and tab-separated text."""
         if self._result is None:
             return False
-        QApplication.clipboard().setMimeData(table_mime(self._result))
-        self._message("Copied the table. Paste it into a slide or document as a table.")
+        put_table_on_clipboard(self._result, self._message)
         return True
 
     def copy_chart(self) -> bool:
@@ -1124,18 +1125,8 @@ class WavesView(QWidget):
         result = self._result
         if result is None:
             return False
-
-        def work(_progress: Any) -> bytes:
-            from core.export.clipboard import chart_png
-
-            return chart_png(result, "waves")
-
-        def done(png: bytes) -> None:
-            QApplication.clipboard().setMimeData(chart_mime(result, png))
-            self._message("Copied the chart as a picture.")
-
-        self._context.runner.run(
-            work, on_success=done, key=f"waves-copy-chart:{id(self)}", label="Drawing the chart…"
+        put_chart_on_clipboard(
+            self._context.runner, result, "waves", f"waves-copy-chart:{id(self)}", self._message
         )
         return True
 
