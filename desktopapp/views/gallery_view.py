@@ -326,9 +326,9 @@ class GalleryWidget(QWidget):
         self._labels = [thumbnail_label(codebook, spec.variable) for spec in self._specs]
         self.drawn = 0
         self.grid.clear()
-        placeholder = _placeholder()
+        pending = _pending_icon()
         for spec, label in zip(self._specs, self._labels):
-            item = QListWidgetItem(QIcon(placeholder), spec.variable)
+            item = QListWidgetItem(QIcon(pending), spec.variable)
             item.setData(SPEC_ROLE, spec)
             item.setToolTip(f"{spec.variable}: {label}")
             item.setSizeHint(self.grid.gridSize())
@@ -375,7 +375,7 @@ class GalleryWidget(QWidget):
                 pixmap.setDevicePixelRatio(pixmap.width() / THUMB_W)
                 item.setIcon(QIcon(pixmap))
             else:
-                item.setIcon(QIcon(_placeholder(thumb.message or "No chart")))
+                item.setIcon(QIcon(_pending_icon(thumb.message or "No chart")))
                 item.setData(MESSAGE_ROLE, thumb.message)
                 item.setToolTip(f"{spec.variable}: {thumb.message}")
         self.drawn = start + len(thumbs)
@@ -414,7 +414,7 @@ class GalleryWidget(QWidget):
         self._generation = -1  # any chunk still running is dropped when it arrives
 
 
-def _placeholder(text: str = "Drawing…") -> QPixmap:
+def _pending_icon(text: str = "Drawing…") -> QPixmap:
     pixmap = QPixmap(THUMB_W, THUMB_H)
     pixmap.fill(QColor("#f4f4f4"))
     painter = QPainter(pixmap)

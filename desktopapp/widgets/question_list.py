@@ -15,11 +15,11 @@ from PySide6.QtWidgets import QLineEdit, QTreeWidget, QTreeWidgetItem
 NAME_ROLE = Qt.ItemDataRole.UserRole
 
 
-def search_box(object_name: str, placeholder: str) -> QLineEdit:
+def search_box(object_name: str, hint: str) -> QLineEdit:
     """The search box above a question list (filtered as the evaluator types)."""
     edit = QLineEdit()
     edit.setObjectName(object_name)
-    edit.setPlaceholderText(placeholder)
+    edit.setPlaceholderText(hint)
     edit.setClearButtonEnabled(True)
     return edit
 
