@@ -26,19 +26,24 @@ SOURCE = (
 )
 
 
-def main() -> None:
-    assert SCHEMA_VERSION == 1, "this script writes the version-1 file; keep the committed one"
-    TARGET.unlink(missing_ok=True)
+def write_sample(target: Path, name: str) -> None:
+    """The same small project in every version's file: one wave, one codebook edit."""
+    target.unlink(missing_ok=True)
     with tempfile.TemporaryDirectory() as tmp:
         csv = Path(tmp) / "survey_2026.csv"
         csv.write_text(SOURCE, encoding="utf-8")
-        with Project.create(TARGET, name="Version 1 sample") as project:
+        with Project.create(target, name=name) as project:
             result = import_file(project, csv, instrument="Participant survey", wave="2026")
             inst = result.wave.instrument_id
             cb = project.codebook(inst)
             cb = cb.with_variable(cb["age"].updated({"range": [16, 80]}))
             project.set_codebook(inst, cb, label="Set the range of age")
-    print(f"wrote {TARGET} ({TARGET.stat().st_size} bytes)")
+    print(f"wrote {target} ({target.stat().st_size} bytes)")
+
+
+def main() -> None:
+    assert SCHEMA_VERSION == 1, "this script writes the version-1 file; keep the committed one"
+    write_sample(TARGET, "Version 1 sample")
 
 
 if __name__ == "__main__":
