@@ -44,7 +44,7 @@ from core.kinds import Kind, MissingReason
 from core.project import Project, Wave
 from desktopapp.errors import message_for
 from desktopapp.icons import kind_icon
-from desktopapp.views import bold_label, escape_rich
+from desktopapp.views import bold_label, escape_rich, titled_pane
 from desktopapp.workers import BackgroundRunner, Job
 
 SPREADSHEETS = (".xlsx", ".xlsm", ".xlsb", ".xls", ".ods")
@@ -341,18 +341,18 @@ class ImportDialog(QDialog):
         self.columns_note.setWordWrap(True)
         self.columns_note.setForegroundRole(QPalette.ColorRole.PlaceholderText)
 
-        preview_box = QWidget()
-        pv = QVBoxLayout(preview_box)
-        pv.setContentsMargins(0, 0, 0, 0)
-        pv.addWidget(bold_label("The first rows, exactly as they will be read"))
-        pv.addWidget(self.preview_table, 1)
-        pv.addWidget(self.preview_note)
-        columns_box = QWidget()
-        cv = QVBoxLayout(columns_box)
-        cv.setContentsMargins(0, 0, 0, 0)
-        cv.addWidget(bold_label("What each column holds"))
-        cv.addWidget(self.columns_note)
-        cv.addWidget(self.columns_table, 1)
+        preview_box = titled_pane(
+            "The first rows, exactly as they will be read",
+            self.preview_table,
+            self.preview_note,
+            stretch=self.preview_table,
+        )
+        columns_box = titled_pane(
+            "What each column holds",
+            self.columns_note,
+            self.columns_table,
+            stretch=self.columns_table,
+        )
         splitter = QSplitter(Qt.Orientation.Vertical)
         splitter.addWidget(preview_box)
         splitter.addWidget(columns_box)

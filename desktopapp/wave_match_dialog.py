@@ -33,7 +33,7 @@ from PySide6.QtWidgets import (
 
 from core.codebook import Codebook
 from core.wavematch import MATCHED, NEW, RENAMED, UNCERTAIN, MatchReport, match_wave
-from desktopapp.views import bold_label, escape_rich
+from desktopapp.views import escape_rich, titled_pane
 
 NEW_QUESTION = ""  # combo data of "Add as a new question"
 LEAVE = ""  # combo data of "Leave as it is"
@@ -123,17 +123,14 @@ class WaveMatchDialog(QDialog):
         self.import_button.setObjectName("matchImportButton")
         self.import_button.setDefault(True)
 
-        top = QWidget()
-        tv = QVBoxLayout(top)
-        tv.setContentsMargins(0, 0, 0, 0)
-        tv.addWidget(bold_label("Columns"))
-        tv.addWidget(self.columns_table, 1)
-        tv.addWidget(self.missing_label)
-        bottom_box = QWidget()
-        bv = QVBoxLayout(bottom_box)
-        bv.setContentsMargins(0, 0, 0, 0)
-        bv.addWidget(bold_label("Answers worded differently from the codebook"))
-        bv.addWidget(self.levels_table, 1)
+        top = titled_pane(
+            "Columns", self.columns_table, self.missing_label, stretch=self.columns_table
+        )
+        bottom_box = titled_pane(
+            "Answers worded differently from the codebook",
+            self.levels_table,
+            stretch=self.levels_table,
+        )
         splitter = QSplitter(Qt.Orientation.Vertical)
         splitter.addWidget(top)
         splitter.addWidget(bottom_box)

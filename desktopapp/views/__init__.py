@@ -118,6 +118,19 @@ def bold_label(text: str) -> Any:
     return QLabel(f"<b>{text}</b>")
 
 
+def titled_pane(title: str, *widgets: Any, stretch: Any = None) -> Any:
+    """A margin-free pane: a bold title over ``widgets``; ``stretch`` (one of them) grows."""
+    from PySide6.QtWidgets import QVBoxLayout, QWidget
+
+    pane = QWidget()
+    layout = QVBoxLayout(pane)
+    layout.setContentsMargins(0, 0, 0, 0)
+    layout.addWidget(bold_label(title))
+    for widget in widgets:
+        layout.addWidget(widget, 1 if widget is stretch else 0)
+    return pane
+
+
 def escape_rich(text: str) -> str:
     """``text`` made safe inside a label's rich text.
 
